@@ -1,0 +1,53 @@
+package dev.heapherd.cli;
+
+import picocli.CommandLine;
+import picocli.CommandLine.Command;
+
+/** Entry point of the heapherd jar. */
+@Command(
+    name = "heapherd",
+    mixinStandardHelpOptions = true,
+    versionProvider = Main.Version.class,
+    description = "Divides a memory budget among JVM workloads and sizes their heaps and limits.",
+    subcommands = {PlanCommand.class})
+public final class Main implements Runnable {
+
+  /** Exit code for bad input: usage errors and invalid files alike. */
+  public static final int EXIT_BAD_INPUT = 2;
+
+  /** Exit code for a failure that is not the input's fault. */
+  public static final int EXIT_INTERNAL_ERROR = 1;
+
+  @CommandLine.Spec CommandLine.Model.CommandSpec spec;
+
+  /** Runs the command line and exits with its code. */
+  public static void main(String[] args) {
+    System.exit(commandLine().execute(args));
+  }
+
+  /** The configured command line, shared by {@link #main} and tests. */
+  public static CommandLine commandLine() {
+    CommandLine cli = new CommandLine(new Main());
+    cli.setExecutionExceptionHandler(
+        (e, commandLine, parseResult) -> {
+          // A failure here is a defect of ours; one line says so without a stack trace.
+          commandLine.getErr().println("heapherd: internal error: " + e);
+          return EXIT_INTERNAL_ERROR;
+        });
+    return cli;
+  }
+
+  @Override
+  public void run() {
+    spec.commandLine().usage(spec.commandLine().getOut());
+  }
+
+  /** Reports the version from the jar's manifest. */
+  static final class Version implements CommandLine.IVersionProvider {
+    @Override
+    public String[] getVersion() {
+      String version = Main.class.getPackage().getImplementationVersion();
+      return new String[] {"heapherd " + (version == null ? "development build" : version)};
+    }
+  }
+}

@@ -1,0 +1,69 @@
+package dev.heapherd.cli;
+
+import com.fasterxml.jackson.core.JsonProcessingException;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import com.fasterxml.jackson.databind.SerializationFeature;
+import dev.heapherd.engine.PoolPlan;
+import dev.heapherd.input.InputException;
+import dev.heapherd.input.PoolFile;
+import dev.heapherd.input.PoolFileReader;
+import dev.heapherd.input.Snapshot;
+import dev.heapherd.input.SnapshotReader;
+import dev.heapherd.plan.PlanDocument;
+import dev.heapherd.plan.PlanTable;
+import dev.heapherd.plan.Planner;
+import java.nio.file.Path;
+import java.util.concurrent.Callable;
+import picocli.CommandLine;
+import picocli.CommandLine.Command;
+import picocli.CommandLine.Option;
+
+/** {@code plan}: computes a pool's heaps and limits from a snapshot, offline. */
+@Command(
+    name = "plan",
+    mixinStandardHelpOptions = true,
+    description = "Propose heaps and container limits for a pool from a metrics snapshot.")
+final class PlanCommand implements Callable<Integer> {
+
+  /** Output formats of the plan. */
+  enum Format {
+    table,
+    json
+  }
+
+  @Option(names = "--pool", required = true, description = "HeapPool YAML file.")
+  Path pool;
+
+  @Option(names = "--snapshot", required = true, description = "Metrics snapshot (YAML or JSON).")
+  Path snapshot;
+
+  @Option(
+      names = {"-o", "--output"},
+      defaultValue = "table",
+      description = "Output format: ${COMPLETION-CANDIDATES} (default: ${DEFAULT-VALUE}).")
+  Format format;
+
+  @CommandLine.Spec CommandLine.Model.CommandSpec spec;
+
+  @Override
+  public Integer call() throws JsonProcessingException {
+    PlanDocument doc;
+    try {
+      PoolFile poolFile = PoolFileReader.read(pool);
+      Snapshot metrics = SnapshotReader.read(snapshot);
+      PoolPlan plan = Planner.plan(poolFile, pool.toString(), metrics, snapshot.toString());
+      doc = PlanDocument.of(poolFile, metrics, plan);
+    } catch (InputException e) {
+      spec.commandLine().getErr().println("heapherd: " + e.getMessage());
+      return Main.EXIT_BAD_INPUT;
+    }
+    String text =
+        format == Format.json
+            ? new ObjectMapper().enable(SerializationFeature.INDENT_OUTPUT).writeValueAsString(doc)
+                + System.lineSeparator()
+            : PlanTable.render(doc);
+    spec.commandLine().getOut().print(text);
+    spec.commandLine().getOut().flush();
+    return 0;
+  }
+}

@@ -1,0 +1,143 @@
+package dev.heapherd.engine;
+
+import java.util.ArrayList;
+import java.util.HashSet;
+import java.util.List;
+import java.util.function.ToDoubleFunction;
+
+/**
+ * Divides memory among a pool's workloads by the square-root heap limit rule: each heap gets
+ * {@code E_i = E0_i + c * sqrt(w_i * k_i)} of headroom over live, clamped to its bounds, with one
+ * level {@code c} for the pool. Pure: no I/O.
+ */
+public final class Allocator {
+
+  private Allocator() {}
+
+  /** Plans the pool. Workload names must be unique. */
+  public static PoolPlan plan(List<Workload> workloads, Objective objective) {
+    if (workloads.isEmpty()) {
+      throw new IllegalArgumentException("a pool needs at least one workload");
+    }
+    requireUniqueNames(workloads);
+    int size = workloads.size();
+    HeapBounds[] bounds = new HeapBounds[size];
+    double[] low = new double[size];
+    double[] high = new double[size];
+    double[] count = new double[size];
+    double overheadBytes = 0;
+    for (int i = 0; i < size; i++) {
+      Workload w = workloads.get(i);
+      bounds[i] = HeapBounds.of(w);
+      low[i] = bounds[i].lowBytes();
+      high[i] = bounds[i].highBytes();
+      count[i] = w.replicas();
+      overheadBytes += (double) w.replicas() * w.podOverheadBytes();
+    }
+
+    WaterFilling optimum =
+        new WaterFilling(
+            values(workloads, w -> (double) w.liveBytes() + w.gc().offsetBytes()),
+            values(workloads, Workload::pull),
+            low,
+            high,
+            count);
+    long minimumBudget = (long) Math.ceil(optimum.minimumTotal() + overheadBytes);
+
+    double level;
+    long budget;
+    boolean feasible;
+    if (objective instanceof Objective.Prices prices) {
+      level = prices.waterLevel();
+      feasible = true;
+      budget = -1;
+    } else {
+      budget = ((Objective.Budget) objective).bytes();
+      feasible = budget >= minimumBudget;
+      level = feasible ? optimum.levelFor(budget - overheadBytes) : 0;
+    }
+    long[] heaps = new long[size];
+    double[] optimal = new double[size];
+    long used = 0;
+    for (int i = 0; i < size; i++) {
+      optimal[i] = optimum.heapAt(i, level);
+      heaps[i] = roundedHeap(optimal[i], bounds[i]);
+      used += workloads.get(i).replicas() * (heaps[i] + workloads.get(i).podOverheadBytes());
+    }
+    if (budget < 0) {
+      budget = used;
+    }
+    // The comparison rules get the same memory the proposal may use (all of it when feasible).
+    double heapTarget = feasible ? budget - overheadBytes : optimum.minimumTotal();
+    WaterFilling linear =
+        new WaterFilling(
+            values(workloads, w -> (double) w.liveBytes()),
+            values(workloads, w -> (double) w.liveBytes()),
+            low,
+            high,
+            count);
+    WaterFilling equal =
+        new WaterFilling(new double[size], values(workloads, w -> 1.0), low, high, count);
+    double linearLevel = linear.levelFor(heapTarget);
+    double equalLevel = equal.levelFor(heapTarget);
+
+    List<WorkloadPlan> plans = new ArrayList<>(size);
+    GcForecast total = new GcForecast(0, 0, 0, 0);
+    for (int i = 0; i < size; i++) {
+      Workload w = workloads.get(i);
+      long linearHeap = roundedHeap(linear.heapAt(i, linearLevel), bounds[i]);
+      long equalHeap = roundedHeap(equal.heapAt(i, equalLevel), bounds[i]);
+      GcForecast forecast =
+          new GcForecast(
+              w.gcSecondsPerHour(w.currentHeapBytes()),
+              w.gcSecondsPerHour(heaps[i]),
+              w.gcSecondsPerHour(linearHeap),
+              w.gcSecondsPerHour(equalHeap));
+      total = total.plus(forecast);
+      Bound bound = feasible ? boundAt(w, bounds[i], level) : bounds[i].lowBound();
+      plans.add(
+          new WorkloadPlan(
+              w,
+              bounds[i],
+              optimal[i],
+              heaps[i],
+              heaps[i] + w.podOverheadBytes(),
+              bound,
+              linearHeap,
+              equalHeap,
+              forecast));
+    }
+    return new PoolPlan(objective, budget, feasible, minimumBudget, used, level, plans, total);
+  }
+
+  private static Bound boundAt(Workload w, HeapBounds bounds, double level) {
+    double unclamped = (double) w.liveBytes() + w.gc().offsetBytes() + level * w.pull();
+    if (bounds.lowBytes() == bounds.highBytes() || unclamped <= bounds.lowBytes()) {
+      return bounds.lowBound();
+    }
+    return unclamped >= bounds.highBytes() ? bounds.highBound() : Bound.NONE;
+  }
+
+  /** Whole MiB at or below the exact heap, kept within bounds (which are whole MiB). */
+  private static long roundedHeap(double heapBytes, HeapBounds bounds) {
+    long rounded = Units.roundDownToMib(heapBytes);
+    return Math.min(bounds.highBytes(), Math.max(bounds.lowBytes(), rounded));
+  }
+
+  private static double[] values(List<Workload> workloads, ToDoubleFunction<Workload> f) {
+    double[] out = new double[workloads.size()];
+    for (int i = 0; i < out.length; i++) {
+      out[i] = f.applyAsDouble(workloads.get(i));
+    }
+    return out;
+  }
+
+  private static void requireUniqueNames(List<Workload> workloads) {
+    var seen = new HashSet<String>();
+    for (Workload w : workloads) {
+      if (!seen.add(w.name())) {
+        throw new IllegalArgumentException("duplicate workload name: " + w.name());
+      }
+    }
+  }
+}

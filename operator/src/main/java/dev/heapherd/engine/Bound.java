@@ -1,0 +1,24 @@
+package dev.heapherd.engine;
+
+/** Which constraint decided a workload's heap. */
+public enum Bound {
+  /** The optimum itself, inside all bounds. */
+  NONE("none"),
+  /** A safety floor: absolute minimum heap, minimum headroom over live, or the offset. */
+  FLOOR("floor"),
+  /** The absolute maximum heap. */
+  CEILING("ceiling"),
+  /** The limit on change per step relative to the current heap. */
+  STEP("step");
+
+  private final String label;
+
+  Bound(String label) {
+    this.label = label;
+  }
+
+  /** Short stable label used in output documents. */
+  public String label() {
+    return label;
+  }
+}

@@ -1,0 +1,44 @@
+package dev.heapherd.engine;
+
+/**
+ * The interval one workload's heap may take in this step, in whole MiB, and what set each end.
+ *
+ * @param lowBytes lowest allowed heap
+ * @param lowBound what set the low end (FLOOR or STEP)
+ * @param highBytes highest allowed heap, never below {@code lowBytes}
+ * @param highBound what set the high end (CEILING or STEP, or the low end's bound when floors win)
+ */
+public record HeapBounds(long lowBytes, Bound lowBound, long highBytes, Bound highBound) {
+
+  /**
+   * The smallest usable headroom above the offset: with {@code E <= E0} the cost curve is
+   * unbounded, so the floor keeps one MiB (the unit heaps are written in) above it.
+   */
+  static final long MIN_USABLE_HEADROOM_BYTES = Units.MIB;
+
+  /** Resolves a workload's rules against its live bytes and current heap. */
+  public static HeapBounds of(Workload w) {
+    HeapRules rules = w.rules();
+    double safeFloor =
+        Math.max(
+            Math.max((double) rules.minHeapBytes(), w.liveBytes() * (1 + rules.minHeadroomFraction())),
+            (double) w.liveBytes() + w.gc().offsetBytes() + MIN_USABLE_HEADROOM_BYTES);
+    double stepFloor = w.currentHeapBytes() * (1 - Math.min(1, rules.maxStepFraction()));
+    double stepCeiling = w.currentHeapBytes() * (1 + rules.maxStepFraction());
+
+    long low = roundUp(Math.max(safeFloor, stepFloor));
+    Bound lowBound = stepFloor > safeFloor ? Bound.STEP : Bound.FLOOR;
+    double ceiling = Math.min((double) rules.maxHeapBytes(), stepCeiling);
+    long high = Units.roundDownToMib(ceiling);
+    Bound highBound = stepCeiling < rules.maxHeapBytes() ? Bound.STEP : Bound.CEILING;
+    if (high <= low) {
+      // Conflicting rules: the floor protects the service, so it wins over any ceiling.
+      return new HeapBounds(low, lowBound, low, lowBound);
+    }
+    return new HeapBounds(low, lowBound, high, highBound);
+  }
+
+  private static long roundUp(double bytes) {
+    return (long) Math.ceil(bytes / Units.MIB) * Units.MIB;
+  }
+}

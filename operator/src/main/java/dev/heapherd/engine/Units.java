@@ -1,0 +1,25 @@
+package dev.heapherd.engine;
+
+/** Unit constants and whole-MiB rounding shared by the engine. */
+public final class Units {
+  /** Binary mebibyte: -Xmx and container limits are written in whole MiB. */
+  public static final long MIB = 1024L * 1024L;
+
+  /** Binary gibibyte, the unit memory prices are quoted in. */
+  public static final long GIB = 1024L * MIB;
+
+  /** Seconds in an hour, for GC seconds per hour and prices per hour. */
+  public static final double SECONDS_PER_HOUR = 3600.0;
+
+  private Units() {}
+
+  /** Smallest whole MiB at or above {@code bytes}. */
+  public static long roundUpToMib(long bytes) {
+    return Math.floorDiv(bytes + MIB - 1, MIB) * MIB;
+  }
+
+  /** Largest whole MiB at or below {@code bytes}. */
+  public static long roundDownToMib(double bytes) {
+    return (long) Math.floor(bytes / MIB) * MIB;
+  }
+}

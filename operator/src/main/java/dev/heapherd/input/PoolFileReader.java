@@ -1,0 +1,126 @@
+package dev.heapherd.input;
+
+import dev.heapherd.engine.Objective;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.HashSet;
+import java.util.List;
+import java.util.Optional;
+import java.util.Set;
+
+/** Reads and validates a HeapPool file. */
+public final class PoolFileReader {
+
+  /** The only API version this build understands. */
+  public static final String API_VERSION = "heapherd.dev/v1alpha1";
+
+  /** The resource kind. */
+  public static final String KIND = "HeapPool";
+
+  /** Upper bound on a weight: beyond it one workload would drown every other's GC time. */
+  static final long MAX_WEIGHT = 1000;
+
+  /** Upper bound on percent settings: a heap ten times its live set is headroom enough. */
+  static final long MAX_PERCENT = 1000;
+
+  private static final Set<String> SETTINGS =
+      Set.of(
+          "weight",
+          "heapFloor",
+          "heapCeiling",
+          "minHeadroomPercent",
+          "maxStepPercent",
+          "limitMargin");
+
+  private PoolFileReader() {}
+
+  /** Reads {@code file}; every problem is reported as an {@link InputException}. */
+  public static PoolFile read(Path file) throws InputException {
+    Field root =
+        Documents.read(file).allowOnly(Set.of("apiVersion", "kind", "metadata", "spec", "status"));
+    String apiVersion = root.required("apiVersion").text();
+    if (!API_VERSION.equals(apiVersion)) {
+      throw root.required("apiVersion").error("must be " + API_VERSION + ", got " + apiVersion);
+    }
+    root.required("kind").oneOf(Set.of(KIND));
+    Field metadata = root.required("metadata");
+    String name = metadata.required("name").text();
+    String namespace = metadata.optional("namespace").isPresent() ? metadata.required("namespace").text() : "";
+
+    Field spec =
+        root.required("spec")
+            .allowOnly(
+                Set.of("mode", "memoryBudget", "prices", "selector", "defaults", "overrides"));
+    String mode = spec.oneOfOrDefault("mode", Set.of("DryRun", "Apply"), "DryRun");
+    Objective objective = objective(spec);
+    Field selector = spec.required("selector").allowOnly(Set.of("matchLabels"));
+    var matchLabels = selector.required("matchLabels").stringMap();
+    if (matchLabels.isEmpty()) {
+      throw selector.required("matchLabels").error("must name at least one label");
+    }
+    Optional<Field> defaultsField = spec.optional("defaults");
+    WorkloadSettings defaults =
+        defaultsField.isPresent()
+            ? settings(defaultsField.get().allowOnly(SETTINGS))
+            : new WorkloadSettings(null, null, null, null, null, null);
+    checkFloorBelowCeiling(
+        defaultsField.orElse(spec), defaults.over(WorkloadSettings.BUILT_IN));
+
+    List<PoolFile.Override> overrides = new ArrayList<>();
+    Optional<Field> overridesField = spec.optional("overrides");
+    if (overridesField.isPresent()) {
+      Set<String> seen = new HashSet<>();
+      Set<String> allowed = new HashSet<>(SETTINGS);
+      allowed.add("name");
+      for (Field item : overridesField.get().list()) {
+        item.allowOnly(allowed);
+        String workload = item.required("name").text();
+        if (!seen.add(workload)) {
+          throw item.required("name").error("duplicate workload name \"" + workload + "\"");
+        }
+        WorkloadSettings settings = settings(item);
+        checkFloorBelowCeiling(
+            item, settings.over(defaults.over(WorkloadSettings.BUILT_IN)));
+        overrides.add(new PoolFile.Override(workload, settings));
+      }
+    }
+    return new PoolFile(name, namespace, mode, objective, matchLabels, defaults, overrides);
+  }
+
+  private static Objective objective(Field spec) throws InputException {
+    Optional<Field> budget = spec.optional("memoryBudget");
+    Optional<Field> prices = spec.optional("prices");
+    if (budget.isPresent() == prices.isPresent()) {
+      throw spec.error("set exactly one of memoryBudget or prices");
+    }
+    if (budget.isPresent()) {
+      return new Objective.Budget(budget.get().positiveBytes());
+    }
+    Field p = prices.get().allowOnly(Set.of("memoryPerGiBHour", "cpuPerCoreHour"));
+    return new Objective.Prices(
+        p.required("memoryPerGiBHour").positiveNumber(),
+        p.required("cpuPerCoreHour").positiveNumber());
+  }
+
+  private static WorkloadSettings settings(Field f) throws InputException {
+    return new WorkloadSettings(
+        f.integerOrNull("weight", 1, MAX_WEIGHT),
+        f.positiveBytesOrNull("heapFloor"),
+        f.positiveBytesOrNull("heapCeiling"),
+        f.integerOrNull("minHeadroomPercent", 0, MAX_PERCENT),
+        f.integerOrNull("maxStepPercent", 1, MAX_PERCENT),
+        f.nonNegativeBytesOrNull("limitMargin"));
+  }
+
+  private static void checkFloorBelowCeiling(Field where, WorkloadSettings effective)
+      throws InputException {
+    Long ceiling = effective.heapCeilingBytes();
+    if (ceiling != null && effective.heapFloorBytes() > ceiling) {
+      throw where.error(
+          "heapFloor "
+              + Quantity.format(effective.heapFloorBytes())
+              + " is above heapCeiling "
+              + Quantity.format(ceiling));
+    }
+  }
+}

@@ -1,0 +1,106 @@
+package dev.heapherd.input;
+
+import java.nio.file.Path;
+import java.time.Instant;
+import java.time.format.DateTimeParseException;
+import java.util.ArrayList;
+import java.util.HashSet;
+import java.util.List;
+import java.util.Set;
+
+/** Reads and validates a metrics snapshot file. */
+public final class SnapshotReader {
+
+  /** Workload kinds a pool manages. */
+  public static final Set<String> KINDS = Set.of("Deployment", "StatefulSet");
+
+  /** Collectors of HotSpot-based JVMs that the model covers. */
+  public static final Set<String> COLLECTORS = Set.of("Serial", "Parallel", "G1", "ZGC", "Shenandoah");
+
+  /** Upper bound on replicas, the largest a Deployment's int32 field can say. */
+  static final long MAX_REPLICAS = Integer.MAX_VALUE;
+
+  /** Upper bound on a window: one year, far beyond any sensible metrics window. */
+  static final long MAX_WINDOW_SECONDS = 366L * 24 * 3600;
+
+  private static final Set<String> WORKLOAD_FIELDS =
+      Set.of(
+          "name",
+          "kind",
+          "replicas",
+          "collector",
+          "heapMaxBytes",
+          "liveBytes",
+          "gcSecondsPerSecond",
+          "youngGcSecondsPerSecond",
+          "offsetBytes",
+          "promotionBytesPerSecond",
+          "collectorBytesPerSecond",
+          "nonHeapBytes");
+
+  private SnapshotReader() {}
+
+  /** Reads {@code file}; every problem is reported as an {@link InputException}. */
+  public static Snapshot read(Path file) throws InputException {
+    Field root = Documents.read(file).allowOnly(Set.of("capturedAt", "windowSeconds", "workloads"));
+    Field capturedField = root.required("capturedAt");
+    Instant capturedAt;
+    try {
+      capturedAt = Instant.parse(capturedField.text());
+    } catch (DateTimeParseException e) {
+      throw capturedField.error("must be a UTC timestamp such as 2026-11-30T09:00:00Z");
+    }
+    long windowSeconds = root.required("windowSeconds").integer(1, MAX_WINDOW_SECONDS);
+    List<Snapshot.Workload> workloads = new ArrayList<>();
+    Set<String> names = new HashSet<>();
+    for (Field item : root.required("workloads").list()) {
+      Snapshot.Workload w = workload(item.allowOnly(WORKLOAD_FIELDS));
+      if (!names.add(w.name())) {
+        throw item.required("name").error("duplicate workload name \"" + w.name() + "\"");
+      }
+      workloads.add(w);
+    }
+    if (workloads.isEmpty()) {
+      throw root.required("workloads").error("must list at least one workload");
+    }
+    return new Snapshot(capturedAt, windowSeconds, workloads);
+  }
+
+  private static Snapshot.Workload workload(Field f) throws InputException {
+    long heap = f.required("heapMaxBytes").positiveBytes();
+    long live = f.required("liveBytes").positiveBytes();
+    if (live >= heap) {
+      throw f.required("liveBytes")
+          .error(
+              "live bytes "
+                  + Quantity.format(live)
+                  + " are not below the current heap "
+                  + Quantity.format(heap));
+    }
+    Long offsetOrNull = f.nonNegativeBytesOrNull("offsetBytes");
+    long offset = offsetOrNull == null ? 0 : offsetOrNull;
+    if (live + offset >= heap) {
+      throw f.required("offsetBytes")
+          .error("live bytes plus offset leave no headroom under the current heap");
+    }
+    double gc = f.required("gcSecondsPerSecond").nonNegativeNumber();
+    double young = f.optionalNonNegativeNumber("youngGcSecondsPerSecond").orElse(0);
+    if (young > gc) {
+      throw f.required("youngGcSecondsPerSecond")
+          .error("is above gcSecondsPerSecond: the heap-independent part cannot exceed the total");
+    }
+    return new Snapshot.Workload(
+        f.required("name").text(),
+        f.required("kind").oneOf(KINDS),
+        (int) f.required("replicas").integer(1, MAX_REPLICAS),
+        f.required("collector").oneOf(COLLECTORS),
+        heap,
+        live,
+        gc,
+        young,
+        offset,
+        f.optionalNonNegativeNumber("promotionBytesPerSecond"),
+        f.optionalNonNegativeNumber("collectorBytesPerSecond"),
+        f.required("nonHeapBytes").nonNegativeBytes());
+  }
+}

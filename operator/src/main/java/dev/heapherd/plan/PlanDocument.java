@@ -1,0 +1,110 @@
+package dev.heapherd.plan;
+
+import dev.heapherd.engine.GcForecast;
+import dev.heapherd.engine.Objective;
+import dev.heapherd.engine.PoolPlan;
+import dev.heapherd.engine.WorkloadPlan;
+import dev.heapherd.input.PoolFile;
+import dev.heapherd.input.Snapshot;
+import dev.heapherd.rollout.JvmOptions;
+import java.util.List;
+import java.util.OptionalLong;
+
+/**
+ * The machine-readable plan printed by {@code plan -o json}. Field names are part of the command
+ * line's contract: add fields, never rename them.
+ */
+public record PlanDocument(
+    String pool,
+    String namespace,
+    String objective,
+    String capturedAt,
+    long windowSeconds,
+    long budgetBytes,
+    boolean feasible,
+    long minimumBudgetBytes,
+    long usedBytes,
+    double level,
+    Forecast predictedGcSecondsPerHour,
+    List<WorkloadEntry> workloads,
+    String caution) {
+
+  /** The caution every plan carries: changing production memory can cause outages. */
+  public static final String CAUTION =
+      "This is a proposal computed from one metrics snapshot. Review it, try it in staging first,"
+          + " and follow your organisation's change process before applying it to production.";
+
+  /** Predicted GC seconds per hour under each allocation. */
+  public record Forecast(double current, double proposed, double linearRule, double equalSplit) {
+    static Forecast of(GcForecast f) {
+      return new Forecast(f.current(), f.proposed(), f.linearRule(), f.equalSplit());
+    }
+  }
+
+  /** Heaps per pod under the two comparison rules. */
+  public record Comparison(long linearRuleHeapBytes, long equalSplitHeapBytes) {}
+
+  /** One workload's line of the plan. */
+  public record WorkloadEntry(
+      String name,
+      int replicas,
+      long liveBytes,
+      long nonHeapBytes,
+      long currentHeapBytes,
+      long heapBytes,
+      long limitBytes,
+      String maxHeapOption,
+      double gcConstant,
+      String gcConstantEstimator,
+      long offsetBytes,
+      double heapIndependentGcSecondsPerSecond,
+      double weight,
+      String bound,
+      long lowHeapBytes,
+      long highHeapBytes,
+      Comparison comparison,
+      Forecast predictedGcSecondsPerHour) {}
+
+  /** Builds the document from a plan and its inputs. */
+  public static PlanDocument of(PoolFile pool, Snapshot snapshot, PoolPlan plan) {
+    List<WorkloadEntry> entries =
+        plan.workloads().stream().map(PlanDocument::entry).toList();
+    return new PlanDocument(
+        pool.name(),
+        pool.namespace(),
+        plan.objective() instanceof Objective.Budget ? "budget" : "prices",
+        snapshot.capturedAt().toString(),
+        snapshot.windowSeconds(),
+        plan.budgetBytes(),
+        plan.feasible(),
+        plan.minimumBudgetBytes(),
+        plan.usedBytes(),
+        plan.level(),
+        Forecast.of(plan.totalGcSecondsPerHour()),
+        entries,
+        CAUTION);
+  }
+
+  private static WorkloadEntry entry(WorkloadPlan p) {
+    var w = p.workload();
+    return new WorkloadEntry(
+        w.name(),
+        w.replicas(),
+        w.liveBytes(),
+        w.nonHeapBytes(),
+        w.currentHeapBytes(),
+        p.heapBytes(),
+        p.limitBytes(),
+        JvmOptions.withHeap("", p.heapBytes(), OptionalLong.empty()),
+        w.gc().constantBytes(),
+        w.gc().estimator().label(),
+        w.gc().offsetBytes(),
+        w.gc().heapIndependentFraction(),
+        w.weight(),
+        p.bound().label(),
+        p.bounds().lowBytes(),
+        p.bounds().highBytes(),
+        new Comparison(p.linearRuleHeapBytes(), p.equalSplitHeapBytes()),
+        Forecast.of(p.gcSecondsPerHour()));
+  }
+}

@@ -1,0 +1,121 @@
+package dev.heapherd.plan;
+
+import dev.heapherd.input.Quantity;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Locale;
+
+/** Renders a {@link PlanDocument} as a table for people reviewing a proposal. */
+public final class PlanTable {
+
+  private static final String[] HEADER = {
+    "WORKLOAD", "PODS", "LIVE", "HEAP NOW", "HEAP NEXT", "LIMIT NEXT", "GC s/h NOW", "GC s/h NEXT",
+    "DECIDED BY", "k FROM"
+  };
+
+  private PlanTable() {}
+
+  /** The whole report: heading, table, pool totals, binding constraints and the caution. */
+  public static String render(PlanDocument doc) {
+    StringBuilder out = new StringBuilder();
+    String where = doc.namespace().isEmpty() ? "" : " in namespace " + doc.namespace();
+    out.append("Plan for pool ").append(doc.pool()).append(where).append('\n');
+    out.append("Metrics captured ")
+        .append(doc.capturedAt())
+        .append(" over ")
+        .append(doc.windowSeconds())
+        .append(" s\n\n");
+
+    List<String[]> rows = new ArrayList<>();
+    rows.add(HEADER);
+    for (PlanDocument.WorkloadEntry w : doc.workloads()) {
+      rows.add(
+          new String[] {
+            w.name(),
+            Integer.toString(w.replicas()),
+            Quantity.format(w.liveBytes()),
+            Quantity.format(w.currentHeapBytes()),
+            Quantity.format(w.heapBytes()) + " " + change(w.currentHeapBytes(), w.heapBytes()),
+            Quantity.format(w.limitBytes()),
+            seconds(w.predictedGcSecondsPerHour().current()),
+            seconds(w.predictedGcSecondsPerHour().proposed()),
+            w.bound(),
+            w.gcConstantEstimator()
+          });
+    }
+    appendColumns(out, rows);
+
+    var gc = doc.predictedGcSecondsPerHour();
+    out.append('\n');
+    String objective = "budget".equals(doc.objective()) ? "budget" : "pool size chosen by prices";
+    out.append(
+        String.format(
+            Locale.ROOT,
+            "Memory: %s of %s %s (minimum with every heap at its floor: %s)%n",
+            Quantity.format(doc.usedBytes()),
+            Quantity.format(doc.budgetBytes()),
+            objective,
+            Quantity.format(doc.minimumBudgetBytes())));
+    out.append(
+        String.format(
+            Locale.ROOT,
+            "Predicted GC seconds per hour: now %s, proposed %s (%s);"
+                + " linear rule %s, equal split %s%n",
+            seconds(gc.current()),
+            seconds(gc.proposed()),
+            percent(gc.current(), gc.proposed()),
+            seconds(gc.linearRule()),
+            seconds(gc.equalSplit())));
+    if (!doc.feasible()) {
+      out.append("NOT FEASIBLE: the heap floors alone need ")
+          .append(Quantity.format(doc.minimumBudgetBytes()))
+          .append(", more than the budget of ")
+          .append(Quantity.format(doc.budgetBytes()))
+          .append(". Every heap is held at its floor.\n");
+    }
+    List<String> binding =
+        doc.workloads().stream()
+            .filter(w -> !"none".equals(w.bound()))
+            .map(w -> w.name() + " at its " + w.bound() + " (" + Quantity.format(w.heapBytes()) + ")")
+            .toList();
+    out.append("Binding constraints: ")
+        .append(binding.isEmpty() ? "none" : String.join(", ", binding))
+        .append('\n');
+    out.append("Caution: ").append(doc.caution()).append('\n');
+    return out.toString();
+  }
+
+  private static void appendColumns(StringBuilder out, List<String[]> rows) {
+    int[] widths = new int[HEADER.length];
+    for (String[] row : rows) {
+      for (int i = 0; i < row.length; i++) {
+        widths[i] = Math.max(widths[i], row[i].length());
+      }
+    }
+    for (String[] row : rows) {
+      StringBuilder line = new StringBuilder();
+      for (int i = 0; i < row.length; i++) {
+        line.append(String.format(Locale.ROOT, "%-" + widths[i] + "s", row[i]));
+        if (i < row.length - 1) {
+          line.append("  ");
+        }
+      }
+      out.append(line.toString().stripTrailing()).append('\n');
+    }
+  }
+
+  private static String change(long from, long to) {
+    return "(" + percent(from, to) + ")";
+  }
+
+  private static String percent(double from, double to) {
+    if (from == 0) {
+      return to == 0 ? "+0%" : "new";
+    }
+    return String.format(Locale.ROOT, "%+.0f%%", 100.0 * (to - from) / from);
+  }
+
+  private static String seconds(double value) {
+    return Double.isFinite(value) ? String.format(Locale.ROOT, "%.1f", value) : "unbounded";
+  }
+}

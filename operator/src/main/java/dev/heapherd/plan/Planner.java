@@ -1,0 +1,72 @@
+package dev.heapherd.plan;
+
+import dev.heapherd.engine.Allocator;
+import dev.heapherd.engine.GcConstants;
+import dev.heapherd.engine.GcModel;
+import dev.heapherd.engine.PoolPlan;
+import dev.heapherd.engine.Workload;
+import dev.heapherd.input.InputException;
+import dev.heapherd.input.PoolFile;
+import dev.heapherd.input.Snapshot;
+import dev.heapherd.input.WorkloadSettings;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Set;
+import java.util.stream.Collectors;
+
+/** Joins a pool file and a snapshot into the engine's inputs and plans the pool. */
+public final class Planner {
+
+  private Planner() {}
+
+  /**
+   * Plans {@code pool} from {@code snapshot}.
+   *
+   * @param poolFileName names the pool file in errors
+   * @param snapshotFileName names the snapshot file in errors
+   */
+  public static PoolPlan plan(
+      PoolFile pool, String poolFileName, Snapshot snapshot, String snapshotFileName)
+      throws InputException {
+    Set<String> measured =
+        snapshot.workloads().stream().map(Snapshot.Workload::name).collect(Collectors.toSet());
+    for (int i = 0; i < pool.overrides().size(); i++) {
+      String name = pool.overrides().get(i).name();
+      if (!measured.contains(name)) {
+        throw new InputException(
+            poolFileName,
+            "spec.overrides[" + i + "].name",
+            "workload \"" + name + "\" is not in the snapshot " + snapshotFileName);
+      }
+    }
+    return Allocator.plan(workloads(pool, snapshot), pool.objective());
+  }
+
+  /** The engine's view of every measured workload with the pool's settings applied. */
+  public static List<Workload> workloads(PoolFile pool, Snapshot snapshot) {
+    List<Workload> out = new ArrayList<>();
+    for (Snapshot.Workload m : snapshot.workloads()) {
+      WorkloadSettings settings = pool.settingsFor(m.name());
+      GcModel gc =
+          GcConstants.estimate(
+              m.gcSecondsPerSecond(),
+              m.youngGcSecondsPerSecond(),
+              m.heapMaxBytes(),
+              m.liveBytes(),
+              m.offsetBytes(),
+              m.promotionBytesPerSecond(),
+              m.collectorBytesPerSecond());
+      out.add(
+          new Workload(
+              m.name(),
+              m.replicas(),
+              m.liveBytes(),
+              m.heapMaxBytes(),
+              m.nonHeapBytes(),
+              settings.weight(),
+              gc,
+              settings.toRules()));
+    }
+    return out;
+  }
+}
