@@ -211,6 +211,11 @@ final class Field {
       return (long) Math.ceil(node.asDouble());
     }
     if (node.isTextual()) {
+      if (node.asText().trim().endsWith("m")) {
+        // Kubernetes reads "m" as milli, so "512m" would be half a byte, not 512 MiB as in -Xmx.
+        throw error(
+            "\"" + node.asText() + "\" means thousandths of a byte; write Mi for mebibytes");
+      }
       try {
         return Quantity.parseBytes(node.asText());
       } catch (IllegalArgumentException e) {

@@ -1,5 +1,8 @@
 package dev.heapherd.input;
 
+import static dev.heapherd.engine.Units.GIB;
+import static dev.heapherd.engine.Units.MIB;
+
 import java.math.BigDecimal;
 import java.math.RoundingMode;
 import java.util.Collections;
@@ -10,12 +13,6 @@ import java.util.regex.Pattern;
 
 /** Parses and formats Kubernetes memory quantities as whole bytes. */
 public final class Quantity {
-
-  /** Bytes in one mebibyte (IEC binary prefix, 2^20). */
-  public static final long MIB = 1024L * 1024L;
-
-  /** Bytes in one gibibyte (IEC binary prefix, 2^30). */
-  public static final long GIB = 1024L * MIB;
 
   // Base of the binary suffixes Ki..Ei; Kubernetes quantity grammar, <binarySI>.
   private static final BigDecimal BINARY_BASE = BigDecimal.valueOf(1024);
@@ -84,31 +81,6 @@ public final class Quantity {
       return sign + inUnit(magnitude, GIB, GIB_DECIMALS) + "Gi";
     }
     return sign + inUnit(magnitude, MIB, MIB_DECIMALS) + "Mi";
-  }
-
-  /**
-   * Rounds non-negative bytes up to a whole number of MiB.
-   *
-   * @throws IllegalArgumentException if bytes is negative or the result does not fit in a long
-   */
-  public static long roundUpToMib(long bytes) {
-    requireNonNegative(bytes);
-    long mebibytes = bytes / MIB + (bytes % MIB == 0 ? 0 : 1);
-    if (mebibytes > Long.MAX_VALUE / MIB) {
-      throw new IllegalArgumentException(
-          "cannot round " + bytes + " bytes up to whole MiB: the result exceeds a long");
-    }
-    return mebibytes * MIB;
-  }
-
-  /**
-   * Rounds non-negative bytes down to a whole number of MiB.
-   *
-   * @throws IllegalArgumentException if bytes is negative
-   */
-  public static long roundDownToMib(long bytes) {
-    requireNonNegative(bytes);
-    return bytes - bytes % MIB;
   }
 
   private static Map<String, BigDecimal> suffixes() {
@@ -180,11 +152,6 @@ public final class Quantity {
         .toPlainString();
   }
 
-  private static void requireNonNegative(long bytes) {
-    if (bytes < 0) {
-      throw new IllegalArgumentException("bytes must not be negative, got " + bytes);
-    }
-  }
 
   // Quotes text for a one-line message, escaping anything that would break the line.
   private static String quote(String text) {

@@ -1,5 +1,8 @@
 package dev.heapherd.input;
 
+import static dev.heapherd.engine.Units.GIB;
+import static dev.heapherd.engine.Units.MIB;
+
 import static org.assertj.core.api.Assertions.assertThat;
 import static org.assertj.core.api.Assertions.assertThatThrownBy;
 
@@ -12,7 +15,7 @@ import org.junit.jupiter.params.provider.ValueSource;
 class QuantityTest {
 
   // 123Mi, the value the Kubernetes memory examples all approximate.
-  private static final long EXAMPLE_BYTES = 123L * Quantity.MIB;
+  private static final long EXAMPLE_BYTES = 123L * MIB;
 
   // The decimal examples (129e6, 129M) are 0.02% above 123Mi; 1% says "roughly the same".
   private static final Percentage ROUGHLY = Percentage.withPercentage(1);
@@ -77,13 +80,13 @@ class QuantityTest {
 
   @Test
   void trimsSurroundingWhitespace() {
-    assertThat(Quantity.parseBytes("  512Mi\n")).isEqualTo(512 * Quantity.MIB);
+    assertThat(Quantity.parseBytes("  512Mi\n")).isEqualTo(512 * MIB);
   }
 
   @Test
   void keepsTheSign() {
-    assertThat(Quantity.parseBytes("-256Mi")).isEqualTo(-256 * Quantity.MIB);
-    assertThat(Quantity.parseBytes("+256Mi")).isEqualTo(256 * Quantity.MIB);
+    assertThat(Quantity.parseBytes("-256Mi")).isEqualTo(-256 * MIB);
+    assertThat(Quantity.parseBytes("+256Mi")).isEqualTo(256 * MIB);
     assertThat(Quantity.parseBytes("-0")).isZero();
     // Rounding is away from zero, so a negative fraction mirrors the positive one.
     assertThat(Quantity.parseBytes("-1500m")).isEqualTo(-2);
@@ -190,37 +193,8 @@ class QuantityTest {
 
   @Test
   void formattedWholeValuesParseBack() {
-    for (long bytes : new long[] {Quantity.MIB, 512 * Quantity.MIB, 3 * Quantity.GIB}) {
+    for (long bytes : new long[] {MIB, 512 * MIB, 3 * GIB}) {
       assertThat(Quantity.parseBytes(Quantity.format(bytes))).isEqualTo(bytes);
     }
-  }
-
-  @Test
-  void roundsToWholeMebibytes() {
-    assertThat(Quantity.roundUpToMib(0)).isZero();
-    assertThat(Quantity.roundUpToMib(1)).isEqualTo(Quantity.MIB);
-    assertThat(Quantity.roundUpToMib(Quantity.MIB)).isEqualTo(Quantity.MIB);
-    assertThat(Quantity.roundUpToMib(Quantity.MIB + 1)).isEqualTo(2 * Quantity.MIB);
-    assertThat(Quantity.roundDownToMib(0)).isZero();
-    assertThat(Quantity.roundDownToMib(Quantity.MIB - 1)).isZero();
-    assertThat(Quantity.roundDownToMib(2 * Quantity.MIB - 1)).isEqualTo(Quantity.MIB);
-    assertThat(Quantity.roundDownToMib(Long.MAX_VALUE))
-        .isEqualTo(Long.MAX_VALUE - (Quantity.MIB - 1));
-  }
-
-  @Test
-  void roundingRejectsNegativeInputAndOverflow() {
-    assertThatThrownBy(() -> Quantity.roundUpToMib(-1))
-        .isInstanceOf(IllegalArgumentException.class);
-    assertThatThrownBy(() -> Quantity.roundDownToMib(-1))
-        .isInstanceOf(IllegalArgumentException.class);
-    assertThatThrownBy(() -> Quantity.roundUpToMib(Long.MAX_VALUE))
-        .isInstanceOf(IllegalArgumentException.class);
-  }
-
-  @Test
-  void unitConstantsAreBinary() {
-    assertThat(Quantity.MIB).isEqualTo(1L << 20);
-    assertThat(Quantity.GIB).isEqualTo(1L << 30);
   }
 }
