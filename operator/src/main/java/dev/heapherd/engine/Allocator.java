@@ -12,6 +12,12 @@ import java.util.function.ToDoubleFunction;
  */
 public final class Allocator {
 
+  /**
+   * A heap this close to a bound counts as bound: far below the MiB heaps are written in, far above
+   * the floating-point error of a level computed from a breakpoint.
+   */
+  private static final double BOUND_SNAP_BYTES = 1;
+
   private Allocator() {}
 
   /** Plans the pool. Workload names must be unique. */
@@ -94,7 +100,7 @@ public final class Allocator {
               w.gcSecondsPerHour(linearHeap),
               w.gcSecondsPerHour(equalHeap));
       total = total.plus(forecast);
-      Bound bound = feasible ? boundAt(w, bounds[i], level) : bounds[i].lowBound();
+      Bound bound = feasible ? boundAt(optimal[i], bounds[i]) : bounds[i].lowBound();
       plans.add(
           new WorkloadPlan(
               w,
@@ -110,12 +116,14 @@ public final class Allocator {
     return new PoolPlan(objective, budget, feasible, minimumBudget, used, level, plans, total);
   }
 
-  private static Bound boundAt(Workload w, HeapBounds bounds, double level) {
-    double unclamped = (double) w.liveBytes() + w.gc().offsetBytes() + level * w.pull();
-    if (bounds.lowBytes() == bounds.highBytes() || unclamped <= bounds.lowBytes()) {
+  private static Bound boundAt(double optimalHeapBytes, HeapBounds bounds) {
+    if (bounds.lowBytes() == bounds.highBytes()
+        || optimalHeapBytes <= bounds.lowBytes() + BOUND_SNAP_BYTES) {
       return bounds.lowBound();
     }
-    return unclamped >= bounds.highBytes() ? bounds.highBound() : Bound.NONE;
+    return optimalHeapBytes >= bounds.highBytes() - BOUND_SNAP_BYTES
+        ? bounds.highBound()
+        : Bound.NONE;
   }
 
   /** Whole MiB at or below the exact heap, kept within bounds (which are whole MiB). */

@@ -18,8 +18,9 @@ public final class Units {
     return Math.floorDiv(bytes + MIB - 1, MIB) * MIB;
   }
 
-  /** Largest whole MiB at or below {@code bytes}. */
+  /** Largest whole MiB at or below {@code bytes}, saturating at the largest whole MiB a long holds. */
   public static long roundDownToMib(double bytes) {
-    return (long) Math.floor(bytes / MIB) * MIB;
+    long mebibytes = (long) Math.floor(bytes / MIB);
+    return Math.min(mebibytes, Long.MAX_VALUE / MIB) * MIB;
   }
 }
