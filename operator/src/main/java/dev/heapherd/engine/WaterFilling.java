@@ -1,16 +1,19 @@
 package dev.heapherd.engine;
 
-import java.util.Arrays;
+import java.util.SplittableRandom;
 
 /**
  * Exact solver for {@code sum n_i * clamp(a_i + c*r_i, lo_i, hi_i) = target} over {@code c >= 0}.
  *
  * <p>The left side is piecewise linear and non-decreasing in {@code c} with breakpoints where a
- * term meets a bound. Sorting the breakpoints and bisecting over their indices finds the linear
- * piece that holds the target in O(n log n); on that piece the level is solved in closed form, so
- * the answer is exact up to floating-point rounding, not an iteration to a tolerance.
+ * term meets a bound. The search finds the linear piece that holds the target among the
+ * breakpoints; on that piece the level is solved in closed form, so the answer is exact up to
+ * floating-point rounding, not an iteration to a tolerance.
  */
 final class WaterFilling {
+
+  /** Fixed seed for pivot choice: the answer is unique, the seed only keeps runs repeatable. */
+  private static final long PIVOT_SEED = 0x5eed;
 
   private final double[] base;
   private final double[] slope;
@@ -59,52 +62,88 @@ final class WaterFilling {
   /**
    * The smallest level whose total reaches {@code target}, or the level at which every term is at
    * its high bound when even that total stays below the target. Callers check the minimum first.
+   *
+   * <p>Narrows an interval {@code [lower, upper]} of levels that holds the answer, pivoting on
+   * randomly chosen breakpoints inside it (as quickselect does). Terms whose state no longer
+   * changes inside the interval fold into a constant and a slope, so every round works only on the
+   * terms that still have a breakpoint inside: expected O(n) work in all. When none is left the
+   * total is linear on the interval and the level follows in closed form.
    */
   double levelFor(double target) {
-    double[] breaks = breakpoints();
-    if (breaks.length == 0 || totalAt(0) >= target) {
-      return 0;
-    }
-    if (totalAt(breaks[breaks.length - 1]) <= target) {
-      return breaks[breaks.length - 1];
-    }
-    // Invariant: totalAt(lower) < target <= totalAt(upper), with lower/upper breakpoint levels.
-    double lower = 0;
-    int lo = 0;
-    int hi = breaks.length - 1;
-    while (lo < hi) {
-      int mid = (lo + hi) >>> 1;
-      if (totalAt(breaks[mid]) >= target) {
-        hi = mid;
-      } else {
-        lower = breaks[mid];
-        lo = mid + 1;
-      }
-    }
-    double upper = breaks[hi];
-    double totalLower = totalAt(lower);
-    double totalUpper = totalAt(upper);
-    // No breakpoint lies strictly between lower and upper, so the total is linear there.
-    return lower + (target - totalLower) * (upper - lower) / (totalUpper - totalLower);
-  }
-
-  private double[] breakpoints() {
-    double[] breaks = new double[2 * base.length];
+    // Working copies of the terms that still matter, compacted in place every round so the hot
+    // loops run over contiguous arrays.
     int size = 0;
+    double[] a = new double[base.length];
+    double[] r = new double[base.length];
+    double[] n = new double[base.length];
+    double[] lo = new double[base.length];
+    double[] hi = new double[base.length];
+    double[] toLow = new double[base.length];
+    double[] toHigh = new double[base.length];
+    double constant = 0;
+    double slopeSum = 0;
+    double upper = 0;
     for (int i = 0; i < base.length; i++) {
       if (slope[i] > 0) {
-        double toLow = (low[i] - base[i]) / slope[i];
-        double toHigh = (high[i] - base[i]) / slope[i];
-        if (toLow > 0) {
-          breaks[size++] = toLow;
-        }
-        if (toHigh > 0 && Double.isFinite(toHigh)) {
-          breaks[size++] = toHigh;
-        }
+        a[size] = base[i];
+        r[size] = slope[i];
+        n[size] = count[i];
+        lo[size] = low[i];
+        hi[size] = high[i];
+        toLow[size] = (low[i] - base[i]) / slope[i];
+        toHigh[size] = (high[i] - base[i]) / slope[i];
+        upper = Math.max(upper, toHigh[size]);
+        size++;
+      } else {
+        constant += count[i] * heapAt(i, 0);
       }
     }
-    double[] sorted = Arrays.copyOf(breaks, size);
-    Arrays.sort(sorted);
-    return sorted;
+    if (size == 0 || totalAt(upper) <= target) {
+      return upper;
+    }
+    double lower = 0;
+    SplittableRandom random = new SplittableRandom(PIVOT_SEED);
+    while (true) {
+      // Fold terms with no breakpoint strictly inside (lower, upper) into constant and slope.
+      int kept = 0;
+      for (int j = 0; j < size; j++) {
+        if (toHigh[j] <= lower) {
+          constant += n[j] * hi[j];
+        } else if (toLow[j] >= upper) {
+          constant += n[j] * lo[j];
+        } else if (toLow[j] <= lower && toHigh[j] >= upper) {
+          constant += n[j] * a[j];
+          slopeSum += n[j] * r[j];
+        } else {
+          a[kept] = a[j];
+          r[kept] = r[j];
+          n[kept] = n[j];
+          lo[kept] = lo[j];
+          hi[kept] = hi[j];
+          toLow[kept] = toLow[j];
+          toHigh[kept] = toHigh[j];
+          kept++;
+        }
+      }
+      size = kept;
+      if (size == 0) {
+        break;
+      }
+      int pick = random.nextInt(size);
+      double pivot = toLow[pick] > lower ? toLow[pick] : toHigh[pick];
+      double total = constant + slopeSum * pivot;
+      for (int j = 0; j < size; j++) {
+        total += n[j] * Math.min(hi[j], Math.max(lo[j], a[j] + pivot * r[j]));
+      }
+      if (total >= target) {
+        upper = pivot;
+      } else {
+        lower = pivot;
+      }
+    }
+    if (slopeSum == 0) {
+      return lower;
+    }
+    return Math.max(lower, Math.min(upper, (target - constant) / slopeSum));
   }
 }

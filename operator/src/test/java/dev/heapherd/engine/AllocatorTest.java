@@ -1,0 +1,127 @@
+package dev.heapherd.engine;
+
+import static dev.heapherd.engine.Units.GIB;
+import static dev.heapherd.engine.Units.MIB;
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
+import static org.assertj.core.api.Assertions.within;
+
+import java.util.List;
+import java.util.OptionalDouble;
+import org.junit.jupiter.api.Test;
+
+class AllocatorTest {
+
+  private static final HeapRules OPEN = new HeapRules(0, Long.MAX_VALUE, 0, 10, 0);
+
+  private static Workload workload(
+      String name, int replicas, long liveMib, long heapMib, double gcRate, HeapRules rules) {
+    GcModel gc =
+        GcConstants.estimate(
+            gcRate,
+            0,
+            heapMib * MIB,
+            liveMib * MIB,
+            0,
+            OptionalDouble.empty(),
+            OptionalDouble.empty());
+    return new Workload(name, replicas, liveMib * MIB, heapMib * MIB, 0, 1, gc, rules);
+  }
+
+  @Test
+  void headroomGrowsWithTheSquareRootOfTheGcConstant() {
+    // The square-root rule ("Optimal Heap Limits for Reducing Browser Memory Use", OOPSLA 2022):
+    // with E0 = 0 and equal weights, E_i / E_j = sqrt(k_i / k_j), whatever the live sizes.
+    Workload busy = workload("busy", 1, 500, 1012, 0.16, OPEN); // k = 0.16 x 512 MiB
+    Workload quiet = workload("quiet", 1, 4000, 4512, 0.01, OPEN); // k = 0.01 x 512 MiB
+    PoolPlan plan = Allocator.plan(List.of(busy, quiet), new Objective.Budget(10 * GIB));
+    double busyExtra = plan.workloads().get(0).optimalHeapBytes() - busy.liveBytes();
+    double quietExtra = plan.workloads().get(1).optimalHeapBytes() - quiet.liveBytes();
+    assertThat(busyExtra / quietExtra).isCloseTo(Math.sqrt(0.16 / 0.01), within(1e-9));
+  }
+
+  @Test
+  void replicasCancelPerPodButCountInTheBudget() {
+    Workload one = workload("one", 1, 1000, 2000, 0.02, OPEN);
+    Workload many = workload("many", 10, 1000, 2000, 0.02, OPEN);
+    PoolPlan plan = Allocator.plan(List.of(one, many), new Objective.Budget(44 * 1000 * MIB));
+    // Same per-pod curve: same per-pod heap, and 11 pods share 44000 MiB.
+    assertThat(plan.workloads().get(0).optimalHeapBytes())
+        .isCloseTo(plan.workloads().get(1).optimalHeapBytes(), within(1.0))
+        .isCloseTo(4000.0 * MIB, within(1.0));
+  }
+
+  @Test
+  void infeasibleBudgetKeepsEveryHeapAtItsFloorAndReportsTheMinimum() {
+    HeapRules floors = new HeapRules(GIB, Long.MAX_VALUE, 0.25, 10, 64 * MIB);
+    Workload a = workload("a", 2, 2000, 3000, 0.02, floors);
+    Workload b = workload("b", 1, 100, 500, 0.02, floors);
+    PoolPlan plan = Allocator.plan(List.of(a, b), new Objective.Budget(4 * GIB));
+    assertThat(plan.feasible()).isFalse();
+    // a: 2000 x 1.25 = 2500 MiB; b: the 1 GiB floor; each pod adds its 64 MiB margin.
+    assertThat(plan.minimumBudgetBytes()).isEqualTo((2 * (2500 + 64) + 1024 + 64) * MIB);
+    assertThat(plan.workloads()).allMatch(p -> p.heapBytes() == p.bounds().lowBytes());
+    assertThat(plan.workloads()).allMatch(p -> p.bound() == Bound.FLOOR);
+  }
+
+  @Test
+  void stepLimitAndCeilingBindAndSayWhich() {
+    HeapRules stepped = new HeapRules(0, Long.MAX_VALUE, 0.1, 0.5, 0);
+    HeapRules capped = new HeapRules(0, 1200 * MIB, 0.1, 10, 0);
+    Workload starving = workload("starving", 1, 900, 1000, 0.5, stepped);
+    Workload capped1 = workload("capped", 1, 900, 1000, 0.5, capped);
+    Workload quiet = workload("quiet", 1, 4000, 8000, 0.0001, OPEN);
+    PoolPlan plan =
+        Allocator.plan(List.of(starving, capped1, quiet), new Objective.Budget(20 * GIB));
+    assertThat(plan.workloads().get(0).bound()).isEqualTo(Bound.STEP);
+    assertThat(plan.workloads().get(0).heapBytes()).isEqualTo(1500 * MIB);
+    assertThat(plan.workloads().get(1).bound()).isEqualTo(Bound.CEILING);
+    assertThat(plan.workloads().get(1).heapBytes()).isEqualTo(1200 * MIB);
+    assertThat(plan.workloads().get(2).bound()).isEqualTo(Bound.NONE);
+  }
+
+  @Test
+  void floorWinsOverAConflictingCeiling() {
+    HeapRules conflicting = new HeapRules(0, 1000 * MIB, 0.25, 10, 0);
+    Workload w = workload("w", 1, 1000, 1500, 0.01, conflicting);
+    PoolPlan plan = Allocator.plan(List.of(w), new Objective.Budget(10 * GIB));
+    assertThat(plan.workloads().get(0).heapBytes()).isEqualTo(1250 * MIB);
+    assertThat(plan.workloads().get(0).bound()).isEqualTo(Bound.FLOOR);
+  }
+
+  @Test
+  void pricesGiveTheClosedFormOptimumPerWorkload() {
+    // Minimising p_m*E/GiB + p_c*k/E per pod: E = sqrt(p_c*k*GiB/p_m), by setting the derivative
+    // to zero (first-order condition of a convex function of one variable).
+    double memoryPerGibHour = 0.005;
+    double cpuPerCoreHour = 0.04;
+    Workload w = workload("w", 3, 1000, 1512, 0.03, OPEN);
+    PoolPlan plan =
+        Allocator.plan(List.of(w), new Objective.Prices(memoryPerGibHour, cpuPerCoreHour));
+    double k = 0.03 * 512 * MIB;
+    double expected = Math.sqrt(cpuPerCoreHour * k * GIB / memoryPerGibHour);
+    assertThat(plan.workloads().get(0).optimalHeapBytes() - w.liveBytes())
+        .isCloseTo(expected, within(1e-6 * expected));
+    assertThat(plan.budgetBytes()).isEqualTo(plan.usedBytes());
+  }
+
+  @Test
+  void aWorkloadWithoutHeapDependentGcStaysAtItsFloor() {
+    GcModel flat = GcConstants.estimate(0.01, 0.01, 2 * GIB, GIB, 0, OptionalDouble.empty(), OptionalDouble.empty());
+    Workload young = new Workload("young", 1, GIB, 2 * GIB, 0, 1, flat, new HeapRules(0, Long.MAX_VALUE, 0.2, 10, 0));
+    Workload busy = workload("busy", 1, 1000, 1500, 0.05, OPEN);
+    PoolPlan plan = Allocator.plan(List.of(young, busy), new Objective.Budget(8 * GIB));
+    assertThat(flat.estimator()).isEqualTo(GcConstantEstimator.NO_HEAP_DEPENDENT_GC);
+    assertThat(plan.workloads().get(0).heapBytes()).isEqualTo(plan.workloads().get(0).bounds().lowBytes());
+    assertThat(plan.workloads().get(0).bound()).isEqualTo(Bound.FLOOR);
+  }
+
+  @Test
+  void rejectsDuplicateNamesAndEmptyPools() {
+    Workload w = workload("w", 1, 100, 200, 0.01, OPEN);
+    assertThatThrownBy(() -> Allocator.plan(List.of(w, w), new Objective.Budget(GIB)))
+        .hasMessageContaining("duplicate workload name: w");
+    assertThatThrownBy(() -> Allocator.plan(List.of(), new Objective.Budget(GIB)))
+        .isInstanceOf(IllegalArgumentException.class);
+  }
+}
