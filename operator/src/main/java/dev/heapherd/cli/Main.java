@@ -34,6 +34,20 @@ public final class Main implements Runnable {
           commandLine.getErr().println("heapherd: internal error: " + e);
           return EXIT_INTERNAL_ERROR;
         });
+    cli.setParameterExceptionHandler(
+        (e, args) -> {
+          // One line, like every other bad input; --help has the full usage.
+          CommandLine failed = e.getCommandLine();
+          failed
+              .getErr()
+              .println(
+                  "heapherd: "
+                      + e.getMessage()
+                      + " (see "
+                      + failed.getCommandSpec().qualifiedName()
+                      + " --help)");
+          return EXIT_BAD_INPUT;
+        });
     return cli;
   }
 

@@ -48,7 +48,10 @@ public final class Allocator {
             low,
             high,
             count);
-    long minimumBudget = (long) Math.ceil(optimum.minimumTotal() + overheadBytes);
+    long minimumBudget = 0;
+    for (int i = 0; i < size; i++) {
+      minimumBudget = addPods(minimumBudget, workloads.get(i), bounds[i].lowBytes());
+    }
 
     double level;
     long budget;
@@ -68,7 +71,7 @@ public final class Allocator {
     for (int i = 0; i < size; i++) {
       optimal[i] = optimum.heapAt(i, level);
       heaps[i] = roundedHeap(optimal[i], bounds[i]);
-      used += workloads.get(i).replicas() * (heaps[i] + workloads.get(i).podOverheadBytes());
+      used = addPods(used, workloads.get(i), heaps[i]);
     }
     if (budget < 0) {
       budget = used;
@@ -114,6 +117,17 @@ public final class Allocator {
               forecast));
     }
     return new PoolPlan(objective, budget, feasible, minimumBudget, used, level, plans, total);
+  }
+
+  /** {@code total} plus every pod of {@code w} at {@code heapBytes}, refusing to overflow. */
+  private static long addPods(long total, Workload w, long heapBytes) {
+    try {
+      long pods =
+          Math.multiplyExact((long) w.replicas(), Math.addExact(heapBytes, w.podOverheadBytes()));
+      return Math.addExact(total, pods);
+    } catch (ArithmeticException e) {
+      throw new IllegalArgumentException("the pool's memory does not fit in 8 EiB");
+    }
   }
 
   private static Bound boundAt(double optimalHeapBytes, HeapBounds bounds) {

@@ -28,7 +28,8 @@ public record HeapBounds(long lowBytes, Bound lowBound, long highBytes, Bound hi
 
     long low = roundUp(Math.max(safeFloor, stepFloor));
     Bound lowBound = stepFloor > safeFloor ? Bound.STEP : Bound.FLOOR;
-    double ceiling = Math.min((double) rules.maxHeapBytes(), stepCeiling);
+    double ceiling =
+        Math.min(Math.min((double) rules.maxHeapBytes(), Units.MAX_HEAP_BYTES), stepCeiling);
     long high = Units.roundDownToMib(ceiling);
     Bound highBound = stepCeiling < rules.maxHeapBytes() ? Bound.STEP : Bound.CEILING;
     if (high <= low) {

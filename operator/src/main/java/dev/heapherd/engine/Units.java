@@ -8,6 +8,12 @@ public final class Units {
   /** Binary gibibyte, the unit memory prices are quoted in. */
   public static final long GIB = 1024L * MIB;
 
+  /**
+   * Largest heap the engine proposes or accepts: 16 TiB, the largest heap the JDK's collectors
+   * support (ZGC's documented maximum). It also keeps per-pod sums far inside a long.
+   */
+  public static final long MAX_HEAP_BYTES = 16L << 40;
+
   /** Seconds in an hour, for GC seconds per hour and prices per hour. */
   public static final double SECONDS_PER_HOUR = 3600.0;
 

@@ -1,6 +1,7 @@
 package dev.heapherd.input;
 
 import com.fasterxml.jackson.databind.JsonNode;
+import dev.heapherd.engine.Units;
 import java.util.ArrayList;
 import java.util.Iterator;
 import java.util.LinkedHashMap;
@@ -9,12 +10,29 @@ import java.util.Map;
 import java.util.Optional;
 import java.util.OptionalDouble;
 import java.util.Set;
+import java.util.regex.Pattern;
 
 /**
  * A node of a parsed YAML or JSON document together with its path, so every validation error can
  * name the file and the field.
  */
 final class Field {
+
+  /** Largest byte count accepted: the engine's largest heap. */
+  static final long MAX_BYTES = Units.MAX_HEAP_BYTES;
+
+  /** Largest plain number accepted (rates, prices): far beyond any real value, still exact. */
+  static final double MAX_NUMBER = 1e15;
+
+  /** Plain decimal notation only: no hex, no type suffixes, no NaN or Infinity. */
+  private static final Pattern DECIMAL = Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?");
+
+  /** Kubernetes object names are DNS subdomains (RFC 1123), as the API server checks them. */
+  private static final Pattern OBJECT_NAME =
+      Pattern.compile("[a-z0-9]([-a-z0-9]*[a-z0-9])?(\\.[a-z0-9]([-a-z0-9]*[a-z0-9])?)*");
+
+  /** Longest DNS subdomain, per RFC 1123 as Kubernetes applies it. */
+  private static final int MAX_NAME_LENGTH = 253;
 
   private final String file;
   private final String path;
@@ -84,17 +102,35 @@ final class Field {
     var entries = node.fields();
     while (entries.hasNext()) {
       var entry = entries.next();
-      out.put(entry.getKey(), child(entry.getKey(), entry.getValue()).text());
+      Field value = child(entry.getKey(), entry.getValue());
+      out.put(entry.getKey(), value.node.isTextual() ? value.node.asText() : value.text());
     }
     return out;
   }
 
   /** A non-empty string; numbers and booleans are not silently converted. */
   String text() throws InputException {
+    if (node.isValueNode() && !node.isTextual()) {
+      // YAML reads unquoted yes, no, on, 1 or 1.0 as booleans and numbers.
+      throw error("must be a string, got " + node.asText() + " (put it in quotes)");
+    }
     if (!node.isTextual() || node.asText().isBlank()) {
       throw error("must be a non-empty string");
     }
     return node.asText();
+  }
+
+  /** A Kubernetes object name: a DNS subdomain of lower-case letters, digits, '-' and '.'. */
+  String objectName() throws InputException {
+    String value = text();
+    if (value.length() > MAX_NAME_LENGTH || !OBJECT_NAME.matcher(value).matches()) {
+      throw error(
+          "\""
+              + value
+              + "\" is not a valid Kubernetes name (lower-case letters, digits, '-' and '.',"
+              + " starting and ending with a letter or digit, at most 253 characters)");
+    }
+    return value;
   }
 
   /** One of {@code values}, spelt exactly. */
@@ -188,41 +224,49 @@ final class Field {
     double value;
     if (node.isNumber()) {
       value = node.asDouble();
+    } else if (node.isTextual() && DECIMAL.matcher(node.asText().trim()).matches()) {
+      value = Double.parseDouble(node.asText().trim());
     } else if (node.isTextual()) {
-      try {
-        value = Double.parseDouble(node.asText().trim());
-      } catch (NumberFormatException e) {
-        throw error("must be a number, got \"" + node.asText() + "\"");
-      }
+      throw error("must be a decimal number, got \"" + node.asText() + "\"");
     } else {
       throw error("must be a number, got " + describe());
     }
-    if (!Double.isFinite(value)) {
-      throw error("must be a finite number, got " + node.asText());
+    if (!Double.isFinite(value) || Math.abs(value) > MAX_NUMBER) {
+      throw error("must be a number of at most " + MAX_NUMBER + ", got " + node.asText());
     }
     return value;
   }
 
   private long bytes() throws InputException {
+    long bytes;
     if (node.isIntegralNumber() && node.canConvertToLong()) {
-      return node.asLong();
-    }
-    if (node.isNumber() && Double.isFinite(node.asDouble())) {
-      return (long) Math.ceil(node.asDouble());
-    }
-    if (node.isTextual()) {
+      bytes = node.asLong();
+    } else if (node.isNumber() && Math.abs(node.asDouble()) <= MAX_BYTES) {
+      bytes = (long) Math.ceil(node.asDouble());
+    } else if (node.isNumber()) {
+      throw error(tooLarge());
+    } else if (node.isTextual()) {
       if (node.asText().trim().endsWith("m")) {
         // Kubernetes reads "m" as milli, so "512m" would be half a byte, not 512 MiB as in -Xmx.
         throw error(
             "\"" + node.asText() + "\" means thousandths of a byte; write Mi for mebibytes");
       }
       try {
-        return Quantity.parseBytes(node.asText());
+        bytes = Quantity.parseBytes(node.asText());
       } catch (IllegalArgumentException e) {
         throw error(e.getMessage());
       }
+    } else {
+      throw error("must be a byte count or a quantity such as 512Mi, got " + describe());
     }
-    throw error("must be a byte count or a quantity such as 512Mi, got " + describe());
+    if (Math.abs(bytes) > MAX_BYTES) {
+      throw error(tooLarge());
+    }
+    return bytes;
+  }
+
+  private String tooLarge() {
+    return "is larger than " + Quantity.format(MAX_BYTES) + ", the largest size accepted";
   }
 
   private void requireObject() throws InputException {

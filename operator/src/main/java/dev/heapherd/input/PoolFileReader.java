@@ -23,6 +23,20 @@ public final class PoolFileReader {
   /** Upper bound on percent settings: a heap ten times its live set is headroom enough. */
   static final long MAX_PERCENT = 1000;
 
+  /** Metadata a pool file may carry, including what `kubectl get -o yaml` adds. */
+  private static final Set<String> METADATA =
+      Set.of(
+          "name",
+          "namespace",
+          "labels",
+          "annotations",
+          "uid",
+          "resourceVersion",
+          "generation",
+          "creationTimestamp",
+          "managedFields",
+          "finalizers");
+
   private static final Set<String> SETTINGS =
       Set.of(
           "weight",
@@ -43,9 +57,12 @@ public final class PoolFileReader {
       throw root.required("apiVersion").error("must be " + API_VERSION + ", got " + apiVersion);
     }
     root.required("kind").oneOf(Set.of(KIND));
-    Field metadata = root.required("metadata");
-    String name = metadata.required("name").text();
-    String namespace = metadata.optional("namespace").isPresent() ? metadata.required("namespace").text() : "";
+    Field metadata = root.required("metadata").allowOnly(METADATA);
+    String name = metadata.required("name").objectName();
+    String namespace =
+        metadata.optional("namespace").isPresent()
+            ? metadata.required("namespace").objectName()
+            : "";
 
     Field spec =
         root.required("spec")
@@ -64,7 +81,9 @@ public final class PoolFileReader {
             ? settings(defaultsField.get().allowOnly(SETTINGS))
             : new WorkloadSettings(null, null, null, null, null, null);
     checkFloorBelowCeiling(
-        defaultsField.orElse(spec), defaults.over(WorkloadSettings.BUILT_IN));
+        defaultsField.orElse(spec),
+        defaults.over(WorkloadSettings.BUILT_IN),
+        defaults.heapFloorBytes() != null);
 
     List<PoolFile.Override> overrides = new ArrayList<>();
     Optional<Field> overridesField = spec.optional("overrides");
@@ -74,13 +93,15 @@ public final class PoolFileReader {
       allowed.add("name");
       for (Field item : overridesField.get().list()) {
         item.allowOnly(allowed);
-        String workload = item.required("name").text();
+        String workload = item.required("name").objectName();
         if (!seen.add(workload)) {
           throw item.required("name").error("duplicate workload name \"" + workload + "\"");
         }
         WorkloadSettings settings = settings(item);
         checkFloorBelowCeiling(
-            item, settings.over(defaults.over(WorkloadSettings.BUILT_IN)));
+            item,
+            settings.over(defaults.over(WorkloadSettings.BUILT_IN)),
+            settings.heapFloorBytes() != null || defaults.heapFloorBytes() != null);
         overrides.add(new PoolFile.Override(workload, settings));
       }
     }
@@ -112,13 +133,14 @@ public final class PoolFileReader {
         f.nonNegativeBytesOrNull("limitMargin"));
   }
 
-  private static void checkFloorBelowCeiling(Field where, WorkloadSettings effective)
-      throws InputException {
+  private static void checkFloorBelowCeiling(
+      Field where, WorkloadSettings effective, boolean floorFromUser) throws InputException {
     Long ceiling = effective.heapCeilingBytes();
     if (ceiling != null && effective.heapFloorBytes() > ceiling) {
       throw where.error(
           "heapFloor "
               + Quantity.format(effective.heapFloorBytes())
+              + (floorFromUser ? "" : " (the built-in default)")
               + " is above heapCeiling "
               + Quantity.format(ceiling));
     }

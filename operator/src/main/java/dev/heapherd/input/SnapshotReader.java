@@ -23,6 +23,9 @@ public final class SnapshotReader {
   /** Upper bound on a window: one year, far beyond any sensible metrics window. */
   static final long MAX_WINDOW_SECONDS = 366L * 24 * 3600;
 
+  /** A collector tracing less than a byte per second is a unit mistake, not a measurement. */
+  static final double MIN_COLLECTOR_BYTES_PER_SECOND = 1;
+
   private static final Set<String> WORKLOAD_FIELDS =
       Set.of(
           "name",
@@ -89,8 +92,12 @@ public final class SnapshotReader {
       throw f.required("youngGcSecondsPerSecond")
           .error("is above gcSecondsPerSecond: the heap-independent part cannot exceed the total");
     }
+    var collectorSpeed = f.optionalNonNegativeNumber("collectorBytesPerSecond");
+    if (collectorSpeed.isPresent() && collectorSpeed.getAsDouble() < MIN_COLLECTOR_BYTES_PER_SECOND) {
+      throw f.required("collectorBytesPerSecond").error("must be at least 1 byte per second");
+    }
     return new Snapshot.Workload(
-        f.required("name").text(),
+        f.required("name").objectName(),
         f.required("kind").oneOf(KINDS),
         (int) f.required("replicas").integer(1, MAX_REPLICAS),
         f.required("collector").oneOf(COLLECTORS),
@@ -100,7 +107,7 @@ public final class SnapshotReader {
         young,
         offset,
         f.optionalNonNegativeNumber("promotionBytesPerSecond"),
-        f.optionalNonNegativeNumber("collectorBytesPerSecond"),
+        collectorSpeed,
         f.required("nonHeapBytes").nonNegativeBytes());
   }
 }

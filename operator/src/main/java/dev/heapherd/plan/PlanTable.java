@@ -71,7 +71,7 @@ public final class PlanTable {
           .append(Quantity.format(doc.minimumBudgetBytes()))
           .append(", more than the budget of ")
           .append(Quantity.format(doc.budgetBytes()))
-          .append(". Every heap is held at its floor.\n");
+          .append(". Every heap is held at its low bound (floor or step limit).\n");
     }
     List<String> binding =
         doc.workloads().stream()

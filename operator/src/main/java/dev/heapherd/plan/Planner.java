@@ -39,7 +39,15 @@ public final class Planner {
             "workload \"" + name + "\" is not in the snapshot " + snapshotFileName);
       }
     }
-    return Allocator.plan(workloads(pool, snapshot), pool.objective());
+    try {
+      return Allocator.plan(workloads(pool, snapshot), pool.objective());
+    } catch (IllegalArgumentException e) {
+      // Inputs were validated field by field; what is left is the pool as a whole.
+      throw new InputException(
+          poolFileName,
+          "spec",
+          e.getMessage() + "; check replicas and sizes in " + snapshotFileName);
+    }
   }
 
   /** The engine's view of every measured workload with the pool's settings applied. */
