@@ -3,7 +3,6 @@ package dev.heapherd.engine;
 import java.util.ArrayList;
 import java.util.HashSet;
 import java.util.List;
-import java.util.function.ToDoubleFunction;
 
 /**
  * Divides memory among a pool's workloads by the square-root heap limit rule: each heap gets
@@ -31,37 +30,35 @@ public final class Allocator {
     double[] low = new double[size];
     double[] high = new double[size];
     double[] count = new double[size];
+    double[] live = new double[size];
+    double[] liveAndOffset = new double[size];
+    double[] pull = new double[size];
+    double[] none = new double[size];
+    double[] one = new double[size];
     double overheadBytes = 0;
+    long minimumBudget = 0;
     for (int i = 0; i < size; i++) {
       Workload w = workloads.get(i);
       bounds[i] = HeapBounds.of(w);
       low[i] = bounds[i].lowBytes();
       high[i] = bounds[i].highBytes();
       count[i] = w.replicas();
+      live[i] = w.liveBytes();
+      liveAndOffset[i] = (double) w.liveBytes() + w.gc().offsetBytes();
+      pull[i] = w.pull();
+      one[i] = 1;
       overheadBytes += (double) w.replicas() * w.podOverheadBytes();
+      minimumBudget = addPods(minimumBudget, w, bounds[i].lowBytes());
     }
+    WaterFilling optimum = new WaterFilling(liveAndOffset, pull, low, high, count);
 
-    WaterFilling optimum =
-        new WaterFilling(
-            values(workloads, w -> (double) w.liveBytes() + w.gc().offsetBytes()),
-            values(workloads, Workload::pull),
-            low,
-            high,
-            count);
-    long minimumBudget = 0;
-    for (int i = 0; i < size; i++) {
-      minimumBudget = addPods(minimumBudget, workloads.get(i), bounds[i].lowBytes());
-    }
-
-    double level;
-    long budget;
     boolean feasible;
+    double level;
     if (objective instanceof Objective.Prices prices) {
-      level = prices.waterLevel();
       feasible = true;
-      budget = -1;
+      level = prices.waterLevel();
     } else {
-      budget = ((Objective.Budget) objective).bytes();
+      long budget = ((Objective.Budget) objective).bytes();
       feasible = budget >= minimumBudget;
       level = feasible ? optimum.levelFor(budget - overheadBytes) : 0;
     }
@@ -73,25 +70,22 @@ public final class Allocator {
       heaps[i] = roundedHeap(optimal[i], bounds[i]);
       used = addPods(used, workloads.get(i), heaps[i]);
     }
-    if (budget < 0) {
-      budget = used;
-    }
+    // Under prices the pool's size is what the prices chose.
+    long budget =
+        objective instanceof Objective.Budget fixed ? fixed.bytes() : used;
+
     // The comparison rules get the same memory the proposal may use (all of it when feasible).
     double heapTarget = feasible ? budget - overheadBytes : optimum.minimumTotal();
-    WaterFilling linear =
-        new WaterFilling(
-            values(workloads, w -> (double) w.liveBytes()),
-            values(workloads, w -> (double) w.liveBytes()),
-            low,
-            high,
-            count);
-    WaterFilling equal =
-        new WaterFilling(new double[size], values(workloads, w -> 1.0), low, high, count);
+    WaterFilling linear = new WaterFilling(live, live, low, high, count);
+    WaterFilling equal = new WaterFilling(none, one, low, high, count);
     double linearLevel = linear.levelFor(heapTarget);
     double equalLevel = equal.levelFor(heapTarget);
 
     List<WorkloadPlan> plans = new ArrayList<>(size);
-    GcForecast total = new GcForecast(0, 0, 0, 0);
+    double currentTotal = 0;
+    double proposedTotal = 0;
+    double linearTotal = 0;
+    double equalTotal = 0;
     for (int i = 0; i < size; i++) {
       Workload w = workloads.get(i);
       long linearHeap = roundedHeap(linear.heapAt(i, linearLevel), bounds[i]);
@@ -102,7 +96,10 @@ public final class Allocator {
               w.gcSecondsPerHour(heaps[i]),
               w.gcSecondsPerHour(linearHeap),
               w.gcSecondsPerHour(equalHeap));
-      total = total.plus(forecast);
+      currentTotal += forecast.current();
+      proposedTotal += forecast.proposed();
+      linearTotal += forecast.linearRule();
+      equalTotal += forecast.equalSplit();
       Bound bound = feasible ? boundAt(optimal[i], bounds[i]) : bounds[i].lowBound();
       plans.add(
           new WorkloadPlan(
@@ -116,7 +113,15 @@ public final class Allocator {
               equalHeap,
               forecast));
     }
-    return new PoolPlan(objective, budget, feasible, minimumBudget, used, level, plans, total);
+    return new PoolPlan(
+        objective,
+        budget,
+        feasible,
+        minimumBudget,
+        used,
+        level,
+        plans,
+        new GcForecast(currentTotal, proposedTotal, linearTotal, equalTotal));
   }
 
   /** {@code total} plus every pod of {@code w} at {@code heapBytes}, refusing to overflow. */
@@ -146,16 +151,8 @@ public final class Allocator {
     return Math.min(bounds.highBytes(), Math.max(bounds.lowBytes(), rounded));
   }
 
-  private static double[] values(List<Workload> workloads, ToDoubleFunction<Workload> f) {
-    double[] out = new double[workloads.size()];
-    for (int i = 0; i < out.length; i++) {
-      out[i] = f.applyAsDouble(workloads.get(i));
-    }
-    return out;
-  }
-
   private static void requireUniqueNames(List<Workload> workloads) {
-    var seen = new HashSet<String>();
+    var seen = new HashSet<String>(2 * workloads.size());
     for (Workload w : workloads) {
       if (!seen.add(w.name())) {
         throw new IllegalArgumentException("duplicate workload name: " + w.name());

@@ -8,14 +8,4 @@ package dev.heapherd.engine;
  * @param linearRule at heaps from the linear rule {@code E = m * L} with one m for the pool
  * @param equalSplit at one equal heap for every pod
  */
-public record GcForecast(double current, double proposed, double linearRule, double equalSplit) {
-
-  /** Adds another forecast term by term. */
-  public GcForecast plus(GcForecast other) {
-    return new GcForecast(
-        current + other.current,
-        proposed + other.proposed,
-        linearRule + other.linearRule,
-        equalSplit + other.equalSplit);
-  }
-}
+public record GcForecast(double current, double proposed, double linearRule, double equalSplit) {}

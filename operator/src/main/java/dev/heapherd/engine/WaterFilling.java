@@ -1,5 +1,6 @@
 package dev.heapherd.engine;
 
+import java.util.Arrays;
 import java.util.SplittableRandom;
 
 /**
@@ -14,6 +15,9 @@ final class WaterFilling {
 
   /** Fixed seed for pivot choice: the answer is unique, the seed only keeps runs repeatable. */
   private static final long PIVOT_SEED = 0x5eed;
+
+  /** Pivots per sweep: enough to narrow fast, few enough that a sweep stays cheap. */
+  private static final int PIVOTS = 8;
 
   private final double[] base;
   private final double[] slope;
@@ -64,7 +68,7 @@ final class WaterFilling {
    * its high bound when even that total stays below the target. Callers check the minimum first.
    *
    * <p>Narrows an interval {@code [lower, upper]} of levels that holds the answer, pivoting on
-   * randomly chosen breakpoints inside it (as quickselect does). Terms whose state no longer
+   * randomly chosen breakpoints inside it (as quickselect does, with several pivots per sweep). Terms whose state no longer
    * changes inside the interval fold into a constant and a slope, so every round works only on the
    * terms that still have a breakpoint inside: expected O(n) work in all. When none is left the
    * total is linear on the interval and the level follows in closed form.
@@ -129,16 +133,28 @@ final class WaterFilling {
       if (size == 0) {
         break;
       }
-      int pick = random.nextInt(size);
-      double pivot = toLow[pick] > lower ? toLow[pick] : toHigh[pick];
-      double total = constant + slopeSum * pivot;
-      for (int j = 0; j < size; j++) {
-        total += n[j] * Math.min(hi[j], Math.max(lo[j], a[j] + pivot * r[j]));
+      // Several pivots per pass: one sweep over the terms narrows the interval to about
+      // 1/(PIVOTS+1) of the breakpoints inside it, so few sweeps are needed.
+      int pivots = Math.min(PIVOTS, size);
+      double[] levels = new double[pivots];
+      for (int p = 0; p < pivots; p++) {
+        int pick = random.nextInt(size);
+        levels[p] = toLow[pick] > lower ? toLow[pick] : toHigh[pick];
       }
-      if (total >= target) {
-        upper = pivot;
-      } else {
-        lower = pivot;
+      Arrays.sort(levels);
+      double[] totals = new double[pivots];
+      for (int j = 0; j < size; j++) {
+        for (int p = 0; p < pivots; p++) {
+          totals[p] += n[j] * Math.min(hi[j], Math.max(lo[j], a[j] + levels[p] * r[j]));
+        }
+      }
+      for (int p = 0; p < pivots; p++) {
+        double total = totals[p] + constant + slopeSum * levels[p];
+        if (total >= target) {
+          upper = levels[p];
+          break;
+        }
+        lower = levels[p];
       }
     }
     if (slopeSum == 0) {
