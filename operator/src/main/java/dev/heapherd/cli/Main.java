@@ -9,11 +9,14 @@ import picocli.CommandLine.Command;
     mixinStandardHelpOptions = true,
     versionProvider = Main.Version.class,
     description = "Divides a memory budget among JVM workloads and sizes their heaps and limits.",
-    subcommands = {PlanCommand.class})
+    subcommands = {PlanCommand.class, SnapshotCommand.class})
 public final class Main implements Runnable {
 
   /** Exit code for bad input: usage errors and invalid files alike. */
   public static final int EXIT_BAD_INPUT = 2;
+
+  /** Exit code when no workload could be measured well enough (all held, reasons on stderr). */
+  public static final int EXIT_NOTHING_MEASURED = 4;
 
   /** Exit code for a failure that is not the input's fault. */
   public static final int EXIT_INTERNAL_ERROR = 1;

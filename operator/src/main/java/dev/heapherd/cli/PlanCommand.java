@@ -16,13 +16,14 @@ import java.nio.file.Path;
 import java.util.concurrent.Callable;
 import picocli.CommandLine;
 import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Option;
 
 /** {@code plan}: computes a pool's heaps and limits from a snapshot, offline. */
 @Command(
     name = "plan",
     mixinStandardHelpOptions = true,
-    description = "Propose heaps and container limits for a pool from a metrics snapshot.")
+    description = "Propose heaps and container limits for a pool from a snapshot or Prometheus.")
 final class PlanCommand implements Callable<Integer> {
 
   /** Output formats of the plan. */
@@ -34,8 +35,10 @@ final class PlanCommand implements Callable<Integer> {
   @Option(names = "--pool", required = true, description = "HeapPool YAML file.")
   Path pool;
 
-  @Option(names = "--snapshot", required = true, description = "Metrics snapshot (YAML or JSON).")
+  @Option(names = "--snapshot", description = "Metrics snapshot (YAML or JSON).")
   Path snapshot;
+
+  @Mixin MetricsOptions metrics;
 
   @Option(
       names = {"-o", "--output"},
@@ -49,10 +52,15 @@ final class PlanCommand implements Callable<Integer> {
   public Integer call() throws JsonProcessingException {
     PlanDocument doc;
     try {
+      if ((snapshot == null) == (metrics.prometheus == null)) {
+        throw new InputException("plan", "", "give exactly one of --snapshot or --prometheus");
+      }
       PoolFile poolFile = PoolFileReader.read(pool);
-      Snapshot metrics = SnapshotReader.read(snapshot);
-      PoolPlan plan = Planner.plan(poolFile, pool.toString(), metrics, snapshot.toString());
-      doc = PlanDocument.of(poolFile, metrics, plan);
+      Snapshot measured =
+          snapshot != null ? SnapshotReader.read(snapshot) : metrics.measure(poolFile);
+      String source = snapshot != null ? snapshot.toString() : metrics.prometheus.toString();
+      PoolPlan plan = Planner.plan(poolFile, pool.toString(), measured, source);
+      doc = PlanDocument.of(poolFile, measured, plan);
     } catch (InputException e) {
       spec.commandLine().getErr().println("heapherd: " + e.getMessage());
       return Main.EXIT_BAD_INPUT;

@@ -14,6 +14,7 @@ import java.util.Map;
  * @param matchLabels the workload selector
  * @param defaults settings for every workload of the pool
  * @param overrides settings for named workloads
+ * @param metrics where and how to measure the pool's workloads
  */
 public record PoolFile(
     String name,
@@ -22,10 +23,28 @@ public record PoolFile(
     Objective objective,
     Map<String, String> matchLabels,
     WorkloadSettings defaults,
-    List<Override> overrides) {
+    List<Override> overrides,
+    Metrics metrics) {
 
   /** Settings for one named workload. */
   public record Override(String name, WorkloadSettings settings) {}
+
+  /**
+   * How to measure the pool's workloads in Prometheus.
+   *
+   * @param profile the query profile: how the JVMs export their metrics
+   * @param windowSeconds the window rates and robust sizes are computed over
+   * @param queries replacements for single templates of the profile, by signal name
+   */
+  public record Metrics(String profile, long windowSeconds, List<Query> queries) {
+    /** Copies the list. */
+    public Metrics {
+      queries = List.copyOf(queries);
+    }
+  }
+
+  /** One replaced template. */
+  public record Query(String signal, String promql) {}
 
   /** Makes the collections immutable. */
   public PoolFile {

@@ -17,6 +17,35 @@ public final class PoolFileReader {
   /** The resource kind. */
   public static final String KIND = "HeapPool";
 
+  /** Query profiles a pool may name; they match the metrics package's built-in profiles. */
+  public static final Set<String> PROFILES = Set.of("micrometer", "client-java", "otel");
+
+  /** Signals whose query a pool may replace; they match the metrics package's signal keys. */
+  public static final Set<String> SIGNALS =
+      Set.of(
+          "liveBytes",
+          "heapMaxBytes",
+          "youngGcSecondsPerSecond",
+          "oldGcSecondsPerSecond",
+          "promotionBytesPerSecond",
+          "nonHeapBytes",
+          "collectorNames",
+          "sampleCount",
+          "restarts");
+
+  /**
+   * One hour: long enough to hold several old-generation cycles of most services and to smooth
+   * daily load within it. Our default; see docs/metrics.md.
+   */
+  public static final PoolFile.Metrics DEFAULT_METRICS =
+      new PoolFile.Metrics("micrometer", 3600, List.of());
+
+  /** Shortest window: tests use tens of seconds at one-second scrapes. */
+  static final long MIN_WINDOW_SECONDS = 10;
+
+  /** Longest window: one week, beyond which a fleet's code has usually changed. */
+  static final long MAX_WINDOW_SECONDS = 7L * 24 * 3600;
+
   /** Upper bound on a weight: beyond it one workload would drown every other's GC time. */
   static final long MAX_WEIGHT = 1000;
 
@@ -67,7 +96,14 @@ public final class PoolFileReader {
     Field spec =
         root.required("spec")
             .allowOnly(
-                Set.of("mode", "memoryBudget", "prices", "selector", "defaults", "overrides"));
+                Set.of(
+                    "mode",
+                    "memoryBudget",
+                    "prices",
+                    "selector",
+                    "defaults",
+                    "overrides",
+                    "metrics"));
     String mode = spec.oneOfOrDefault("mode", Set.of("DryRun", "Apply"), "DryRun");
     Objective objective = objective(spec);
     Field selector = spec.required("selector").allowOnly(Set.of("matchLabels"));
@@ -105,7 +141,31 @@ public final class PoolFileReader {
         overrides.add(new PoolFile.Override(workload, settings));
       }
     }
-    return new PoolFile(name, namespace, mode, objective, matchLabels, defaults, overrides);
+    Optional<Field> metricsField = spec.optional("metrics");
+    PoolFile.Metrics metrics =
+        metricsField.isPresent() ? metrics(metricsField.get()) : DEFAULT_METRICS;
+    return new PoolFile(
+        name, namespace, mode, objective, matchLabels, defaults, overrides, metrics);
+  }
+
+  private static PoolFile.Metrics metrics(Field f) throws InputException {
+    f.allowOnly(Set.of("profile", "windowSeconds", "queries"));
+    String profile = f.oneOfOrDefault("profile", PROFILES, DEFAULT_METRICS.profile());
+    Long window = f.integerOrNull("windowSeconds", MIN_WINDOW_SECONDS, MAX_WINDOW_SECONDS);
+    List<PoolFile.Query> queries = new ArrayList<>();
+    if (f.optional("queries").isPresent()) {
+      Set<String> seen = new HashSet<>();
+      for (Field q : f.required("queries").list()) {
+        q.allowOnly(Set.of("signal", "promql"));
+        String signal = q.required("signal").oneOf(SIGNALS);
+        if (!seen.add(signal)) {
+          throw q.required("signal").error("duplicate query for " + signal);
+        }
+        queries.add(new PoolFile.Query(signal, q.required("promql").text()));
+      }
+    }
+    return new PoolFile.Metrics(
+        profile, window == null ? DEFAULT_METRICS.windowSeconds() : window, queries);
   }
 
   private static Objective objective(Field spec) throws InputException {

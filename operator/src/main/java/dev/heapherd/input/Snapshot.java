@@ -11,11 +11,33 @@ import java.util.OptionalDouble;
  * @param windowSeconds length of the window the rates were averaged over
  * @param workloads one entry per workload
  */
-public record Snapshot(Instant capturedAt, long windowSeconds, List<Workload> workloads) {
+public record Snapshot(
+    Instant capturedAt, long windowSeconds, List<Workload> workloads, List<Held> held) {
 
-  /** Makes the list immutable. */
+  /** Makes the lists immutable. */
   public Snapshot {
     workloads = List.copyOf(workloads);
+    held = List.copyOf(held);
+  }
+
+  /** A workload that was found but not measured well enough to plan: it keeps its sizes. */
+  public record Held(String name, String reason) {}
+
+  /**
+   * How much to trust one workload's numbers.
+   *
+   * @param sampleCount fewest scrapes of any of its pods in the window (0 when not known)
+   * @param confidence High, Medium or Low ("" when not known)
+   * @param notes what the estimators had to do, e.g. which source gave live bytes
+   */
+  public record Evidence(long sampleCount, String confidence, List<String> notes) {
+    /** Copies the notes. */
+    public Evidence {
+      notes = List.copyOf(notes);
+    }
+
+    /** Nothing known: a snapshot written by hand. */
+    public static final Evidence NONE = new Evidence(0, "", List.of());
   }
 
   /**
@@ -33,6 +55,7 @@ public record Snapshot(Instant capturedAt, long windowSeconds, List<Workload> wo
    * @param promotionBytesPerSecond bytes entering the old generation per second, if measured
    * @param collectorBytesPerSecond live bytes traced per second of GC time, if measured
    * @param nonHeapBytes memory beyond the heap: high-water of RSS minus committed heap
+   * @param evidence how much to trust these numbers
    */
   public record Workload(
       String name,
@@ -46,5 +69,6 @@ public record Snapshot(Instant capturedAt, long windowSeconds, List<Workload> wo
       long offsetBytes,
       OptionalDouble promotionBytesPerSecond,
       OptionalDouble collectorBytesPerSecond,
-      long nonHeapBytes) {}
+      long nonHeapBytes,
+      Evidence evidence) {}
 }

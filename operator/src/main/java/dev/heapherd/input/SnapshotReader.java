@@ -39,13 +39,21 @@ public final class SnapshotReader {
           "offsetBytes",
           "promotionBytesPerSecond",
           "collectorBytesPerSecond",
-          "nonHeapBytes");
+          "nonHeapBytes",
+          "sampleCount",
+          "confidence",
+          "notes");
+
+  /** Confidence levels a snapshot may state. */
+  public static final Set<String> CONFIDENCE = Set.of("High", "Medium", "Low");
 
   private SnapshotReader() {}
 
   /** Reads {@code file}; every problem is reported as an {@link InputException}. */
   public static Snapshot read(Path file) throws InputException {
-    Field root = Documents.read(file).allowOnly(Set.of("capturedAt", "windowSeconds", "workloads"));
+    Field root =
+        Documents.read(file)
+            .allowOnly(Set.of("capturedAt", "windowSeconds", "source", "workloads", "held"));
     Field capturedField = root.required("capturedAt");
     Instant capturedAt;
     try {
@@ -63,10 +71,21 @@ public final class SnapshotReader {
       }
       workloads.add(w);
     }
-    if (workloads.isEmpty()) {
+    List<Snapshot.Held> held = new ArrayList<>();
+    if (root.optional("held").isPresent()) {
+      for (Field item : root.required("held").list()) {
+        item.allowOnly(Set.of("name", "reason"));
+        String name = item.required("name").objectName();
+        if (!names.add(name)) {
+          throw item.required("name").error("duplicate workload name \"" + name + "\"");
+        }
+        held.add(new Snapshot.Held(name, item.required("reason").text()));
+      }
+    }
+    if (workloads.isEmpty() && held.isEmpty()) {
       throw root.required("workloads").error("must list at least one workload");
     }
-    return new Snapshot(capturedAt, windowSeconds, workloads);
+    return new Snapshot(capturedAt, windowSeconds, workloads, held);
   }
 
   private static Snapshot.Workload workload(Field f) throws InputException {
@@ -108,6 +127,19 @@ public final class SnapshotReader {
         offset,
         f.optionalNonNegativeNumber("promotionBytesPerSecond"),
         collectorSpeed,
-        f.required("nonHeapBytes").nonNegativeBytes());
+        f.required("nonHeapBytes").nonNegativeBytes(),
+        evidence(f));
+  }
+
+  private static Snapshot.Evidence evidence(Field f) throws InputException {
+    Long samples = f.integerOrNull("sampleCount", 0, Long.MAX_VALUE);
+    List<String> notes = new ArrayList<>();
+    if (f.optional("notes").isPresent()) {
+      for (Field note : f.required("notes").list()) {
+        notes.add(note.text());
+      }
+    }
+    return new Snapshot.Evidence(
+        samples == null ? 0 : samples, f.oneOfOrDefault("confidence", CONFIDENCE, ""), notes);
   }
 }

@@ -7,6 +7,7 @@ import dev.heapherd.engine.WorkloadPlan;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Snapshot;
 import dev.heapherd.rollout.JvmOptions;
+import java.util.ArrayList;
 import java.util.List;
 import java.util.OptionalLong;
 
@@ -27,6 +28,7 @@ public record PlanDocument(
     double level,
     Forecast predictedGcSecondsPerHour,
     List<WorkloadEntry> workloads,
+    List<Snapshot.Held> held,
     String caution) {
 
   /** The caution every plan carries: changing production memory can cause outages. */
@@ -63,12 +65,17 @@ public record PlanDocument(
       long lowHeapBytes,
       long highHeapBytes,
       Comparison comparison,
-      Forecast predictedGcSecondsPerHour) {}
+      Forecast predictedGcSecondsPerHour,
+      long sampleCount,
+      String confidence,
+      List<String> notes) {}
 
   /** Builds the document from a plan and its inputs. */
   public static PlanDocument of(PoolFile pool, Snapshot snapshot, PoolPlan plan) {
-    List<WorkloadEntry> entries =
-        plan.workloads().stream().map(PlanDocument::entry).toList();
+    List<WorkloadEntry> entries = new ArrayList<>();
+    for (int i = 0; i < plan.workloads().size(); i++) {
+      entries.add(entry(plan.workloads().get(i), snapshot.workloads().get(i).evidence()));
+    }
     return new PlanDocument(
         pool.name(),
         pool.namespace(),
@@ -82,10 +89,11 @@ public record PlanDocument(
         plan.level(),
         Forecast.of(plan.totalGcSecondsPerHour()),
         entries,
+        snapshot.held(),
         CAUTION);
   }
 
-  private static WorkloadEntry entry(WorkloadPlan p) {
+  private static WorkloadEntry entry(WorkloadPlan p, Snapshot.Evidence evidence) {
     var w = p.workload();
     return new WorkloadEntry(
         w.name(),
@@ -105,6 +113,9 @@ public record PlanDocument(
         p.bounds().lowBytes(),
         p.bounds().highBytes(),
         new Comparison(p.linearRuleHeapBytes(), p.equalSplitHeapBytes()),
-        Forecast.of(p.gcSecondsPerHour()));
+        Forecast.of(p.gcSecondsPerHour()),
+        evidence.sampleCount(),
+        evidence.confidence(),
+        evidence.notes());
   }
 }

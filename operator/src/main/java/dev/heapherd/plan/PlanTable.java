@@ -78,6 +78,9 @@ public final class PlanTable {
             .filter(w -> !"none".equals(w.bound()))
             .map(w -> w.name() + " at its " + w.bound() + " (" + Quantity.format(w.heapBytes()) + ")")
             .toList();
+    for (var h : doc.held()) {
+      out.append("Held, sizes unchanged: ").append(h.name()).append(": ").append(h.reason()).append('\n');
+    }
     out.append("Binding constraints: ")
         .append(binding.isEmpty() ? "none" : String.join(", ", binding))
         .append('\n');

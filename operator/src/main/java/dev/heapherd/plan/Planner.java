@@ -30,6 +30,7 @@ public final class Planner {
       throws InputException {
     Set<String> measured =
         snapshot.workloads().stream().map(Snapshot.Workload::name).collect(Collectors.toSet());
+    snapshot.held().forEach(h -> measured.add(h.name()));
     for (int i = 0; i < pool.overrides().size(); i++) {
       String name = pool.overrides().get(i).name();
       if (!measured.contains(name)) {
@@ -38,6 +39,15 @@ public final class Planner {
             "spec.overrides[" + i + "].name",
             "workload \"" + name + "\" is not in the snapshot " + snapshotFileName);
       }
+    }
+    if (snapshot.workloads().isEmpty()) {
+      throw new InputException(
+          snapshotFileName,
+          "workloads",
+          "no workload was measured well enough to plan; held: "
+              + snapshot.held().stream()
+                  .map(h -> h.name() + " (" + h.reason() + ")")
+                  .collect(Collectors.joining(", ")));
     }
     try {
       return Allocator.plan(workloads(pool, snapshot), pool.objective());

@@ -1,0 +1,88 @@
+package dev.heapherd.input;
+
+import com.fasterxml.jackson.annotation.JsonInclude;
+import com.fasterxml.jackson.core.JsonProcessingException;
+import com.fasterxml.jackson.dataformat.yaml.YAMLGenerator;
+import com.fasterxml.jackson.dataformat.yaml.YAMLMapper;
+import java.util.List;
+
+/** Writes a snapshot in the format {@link SnapshotReader} reads. */
+public final class SnapshotWriter {
+
+  private static final YAMLMapper YAML =
+      YAMLMapper.builder()
+          .disable(YAMLGenerator.Feature.WRITE_DOC_START_MARKER)
+          .enable(YAMLGenerator.Feature.MINIMIZE_QUOTES)
+          .build();
+
+  /** The file's shape; field order is the order written. */
+  @JsonInclude(JsonInclude.Include.NON_EMPTY)
+  record File(
+      String capturedAt,
+      long windowSeconds,
+      String source,
+      List<Entry> workloads,
+      List<Snapshot.Held> held) {}
+
+  /** One workload; absent optional values are left out. */
+  @JsonInclude(JsonInclude.Include.NON_EMPTY)
+  record Entry(
+      String name,
+      String kind,
+      int replicas,
+      String collector,
+      long heapMaxBytes,
+      long liveBytes,
+      double gcSecondsPerSecond,
+      double youngGcSecondsPerSecond,
+      long offsetBytes,
+      Double promotionBytesPerSecond,
+      Double collectorBytesPerSecond,
+      long nonHeapBytes,
+      Long sampleCount,
+      String confidence,
+      List<String> notes) {}
+
+  private SnapshotWriter() {}
+
+  /** The snapshot as YAML; {@code source} says where it was measured (may be empty). */
+  public static String write(Snapshot snapshot, String source) {
+    List<Entry> entries =
+        snapshot.workloads().stream()
+            .map(
+                w ->
+                    new Entry(
+                        w.name(),
+                        w.kind(),
+                        w.replicas(),
+                        w.collector(),
+                        w.heapMaxBytes(),
+                        w.liveBytes(),
+                        w.gcSecondsPerSecond(),
+                        w.youngGcSecondsPerSecond(),
+                        w.offsetBytes(),
+                        w.promotionBytesPerSecond().isPresent()
+                            ? w.promotionBytesPerSecond().getAsDouble()
+                            : null,
+                        w.collectorBytesPerSecond().isPresent()
+                            ? w.collectorBytesPerSecond().getAsDouble()
+                            : null,
+                        w.nonHeapBytes(),
+                        w.evidence().sampleCount() > 0 ? w.evidence().sampleCount() : null,
+                        w.evidence().confidence(),
+                        w.evidence().notes()))
+            .toList();
+    try {
+      return YAML.writeValueAsString(
+          new File(
+              snapshot.capturedAt().toString(),
+              snapshot.windowSeconds(),
+              source,
+              entries,
+              snapshot.held()));
+    } catch (JsonProcessingException e) {
+      // Records of strings and numbers always serialise; reaching here is a defect of ours.
+      throw new IllegalStateException(e);
+    }
+  }
+}

@@ -1,0 +1,76 @@
+package dev.heapherd.metrics;
+
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.EnumMap;
+import java.util.HashMap;
+import java.util.HashSet;
+import java.util.List;
+import java.util.Map;
+import java.util.Set;
+import java.util.TreeMap;
+
+/**
+ * Fetches every signal of a profile for all pods matching a selector: a handful of queries per
+ * pool (a few per signal), never one per pod.
+ */
+public final class FleetReader {
+
+  private final PrometheusClient client;
+  private final QueryProfile profile;
+
+  /** A reader using {@code client} and {@code profile}. */
+  public FleetReader(PrometheusClient client, QueryProfile profile) {
+    this.client = client;
+    this.profile = profile;
+  }
+
+  /** The profile in use. */
+  public QueryProfile profile() {
+    return profile;
+  }
+
+  /**
+   * Reads the pods that match {@code selector} over the {@code windowSeconds} ending at {@code
+   * at}. Pods are those scraped in the window (the sample count query answers for them).
+   */
+  public List<PodSignals> read(String selector, long windowSeconds, Instant at)
+      throws MetricsException {
+    Map<String, Map<Signal, Double>> values = new TreeMap<>();
+    Map<String, String> namespaces = new HashMap<>();
+    Set<String> liveFallback = new HashSet<>();
+    Map<String, Set<String>> collectors = new HashMap<>();
+    for (Signal signal : Signal.values()) {
+      List<String> queries = profile.queries(signal, selector, windowSeconds);
+      for (int i = 0; i < queries.size(); i++) {
+        for (Sample sample : client.query(queries.get(i), at).samples()) {
+          String key = sample.label("namespace") + "/" + sample.label("pod");
+          namespaces.put(key, sample.label("namespace"));
+          if (signal == Signal.COLLECTOR_NAMES) {
+            collectors.computeIfAbsent(key, k -> new HashSet<>()).add(sample.label("collector"));
+            continue;
+          }
+          Map<Signal, Double> pod = values.computeIfAbsent(key, k -> new EnumMap<>(Signal.class));
+          if (pod.putIfAbsent(signal, sample.value()) == null && signal == Signal.LIVE_BYTES && i > 0) {
+            liveFallback.add(key);
+          }
+        }
+      }
+    }
+    List<PodSignals> pods = new ArrayList<>();
+    for (var entry : values.entrySet()) {
+      String key = entry.getKey();
+      if (!entry.getValue().containsKey(Signal.SAMPLE_COUNT)) {
+        continue;
+      }
+      pods.add(
+          new PodSignals(
+              namespaces.get(key),
+              key.substring(key.indexOf('/') + 1),
+              entry.getValue(),
+              liveFallback.contains(key),
+              collectors.getOrDefault(key, Set.of())));
+    }
+    return pods;
+  }
+}

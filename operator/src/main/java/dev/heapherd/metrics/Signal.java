@@ -1,0 +1,37 @@
+package dev.heapherd.metrics;
+
+/**
+ * The per-pod quantities a query profile measures. Each profile maps every signal to one PromQL
+ * template whose answer has one series per pod, labelled {@code namespace} and {@code pod}.
+ */
+public enum Signal {
+  /** Live bytes after the last major, mixed or concurrent cycle, robust over the window. */
+  LIVE_BYTES("liveBytes"),
+  /** The heap limit the pod runs with. */
+  HEAP_MAX_BYTES("heapMaxBytes"),
+  /** GC seconds per second of collections whose cost does not depend on heap size (young). */
+  YOUNG_GC_SECONDS_PER_SECOND("youngGcSecondsPerSecond"),
+  /** GC seconds per second of collections whose frequency depends on heap size (old, full). */
+  OLD_GC_SECONDS_PER_SECOND("oldGcSecondsPerSecond"),
+  /** Bytes promoted into the old generation per second. */
+  PROMOTION_BYTES_PER_SECOND("promotionBytesPerSecond"),
+  /** High-water of memory beyond the heap: RSS or committed non-heap minus committed heap. */
+  NON_HEAP_BYTES("nonHeapBytes"),
+  /** One series per pod and collector name, labelled {@code collector}; the value is ignored. */
+  COLLECTOR_NAMES("collectorNames"),
+  /** Samples scraped from the pod over the window. */
+  SAMPLE_COUNT("sampleCount"),
+  /** Counter resets over the window: a restarted JVM has not reached steady state. */
+  RESTARTS("restarts");
+
+  private final String key;
+
+  Signal(String key) {
+    this.key = key;
+  }
+
+  /** The name used for overrides in pool files. */
+  public String key() {
+    return key;
+  }
+}

@@ -1,0 +1,79 @@
+package dev.heapherd.metrics;
+
+import dev.heapherd.input.Snapshot;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.Collection;
+import java.util.Comparator;
+import java.util.LinkedHashSet;
+import java.util.List;
+import java.util.Map;
+import java.util.Set;
+import java.util.TreeMap;
+
+/** Builds a metrics snapshot of one namespace's JVM workloads from Prometheus. */
+public final class SnapshotBuilder {
+
+  private final FleetReader reader;
+
+  /** A builder reading through {@code reader}. */
+  public SnapshotBuilder(FleetReader reader) {
+    this.reader = reader;
+  }
+
+  /**
+   * Measures every workload found in {@code namespace} over the window ending at {@code at}.
+   * Workloads named in {@code expected} but not found are held; when Prometheus cannot answer,
+   * every expected workload is held with the reason. No exception escapes for a metrics failure.
+   *
+   * @param expected workloads the caller knows belong to the pool (may be empty)
+   */
+  public Snapshot build(
+      String namespace, long windowSeconds, Instant at, Collection<String> expected) {
+    List<PodSignals> pods;
+    try {
+      pods = reader.read("namespace=\"" + namespace + "\"", windowSeconds, at);
+    } catch (MetricsException e) {
+      List<Snapshot.Held> held =
+          expected.stream().map(name -> new Snapshot.Held(name, e.getMessage())).toList();
+      return new Snapshot(at, windowSeconds, List.of(), held);
+    }
+    Map<PodOwners.Owner, List<PodSignals>> byOwner =
+        new TreeMap<>(
+            Comparator.comparing(PodOwners.Owner::name).thenComparing(PodOwners.Owner::kind));
+    List<Snapshot.Held> held = new ArrayList<>();
+    for (PodSignals pod : pods) {
+      var owner = PodOwners.of(pod.pod());
+      if (owner.isPresent()) {
+        byOwner.computeIfAbsent(owner.get(), o -> new ArrayList<>()).add(pod);
+      } else {
+        held.add(
+            new Snapshot.Held(
+                pod.pod(), "cannot tell which Deployment or StatefulSet owns this pod"));
+      }
+    }
+    List<Snapshot.Workload> measured = new ArrayList<>();
+    Set<String> seen = new LinkedHashSet<>();
+    for (var entry : byOwner.entrySet()) {
+      String name = entry.getKey().name();
+      if (!seen.add(name)) {
+        held.add(new Snapshot.Held(name, "both a Deployment and a StatefulSet have this name"));
+        continue;
+      }
+      var estimate = WorkloadEstimator.estimate(name, entry.getKey().kind(), entry.getValue());
+      if (estimate instanceof WorkloadEstimator.Measured m) {
+        measured.add(m.workload());
+      } else {
+        WorkloadEstimator.Held h = (WorkloadEstimator.Held) estimate;
+        held.add(new Snapshot.Held(h.name(), h.reason()));
+      }
+    }
+    for (String name : expected) {
+      if (!seen.contains(name)) {
+        held.add(new Snapshot.Held(name, "no pod of it was scraped in the window"));
+      }
+    }
+    measured.removeIf(w -> held.stream().anyMatch(h -> h.name().equals(w.name())));
+    return new Snapshot(at, windowSeconds, measured, held);
+  }
+}
