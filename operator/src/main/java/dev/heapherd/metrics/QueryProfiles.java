@@ -32,9 +32,9 @@ public final class QueryProfiles {
               Signal.LIVE_BYTES,
               List.of(
                   // Updated by Micrometer only after old-generation and concurrent cycles; zero
-                  // until the first one, hence "> 0".
+                  // until the first one, hence "!= 0" (which keeps NaN, so it is reported).
                   "max " + BY_POD
-                      + " (quantile_over_time(0.5, jvm_gc_live_data_size_bytes{${selector}}[${window}])) > 0",
+                      + " (quantile_over_time(0.5, jvm_gc_live_data_size_bytes{${selector}}[${window}])) != 0",
                   "sum " + BY_POD
                       + " (min_over_time(jvm_memory_used_bytes{${selector},area=\"heap\",id=~\""
                       + OLD_POOLS
