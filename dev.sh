@@ -8,6 +8,18 @@ mvn_batch() {
   mvn -B -ntp "$@"
 }
 
+# Real-component tests start Debian's Prometheus server; install it once when missing.
+need_prometheus() {
+  if [ ! -x /usr/bin/prometheus ]; then
+    echo "Installing Debian's prometheus package for the real-component tests..."
+    if [ "$(id -u)" -eq 0 ]; then
+      apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq prometheus >/dev/null
+    else
+      sudo apt-get update -qq && sudo DEBIAN_FRONTEND=noninteractive apt-get install -y -qq prometheus >/dev/null
+    fi
+  fi
+}
+
 case "${1:-}" in
   demo)
     mvn_batch -q -DskipTests -Dspotless.check.skip=true package
@@ -15,6 +27,7 @@ case "${1:-}" in
       --pool docs/examples/pool.yaml --snapshot docs/examples/snapshot.yaml
     ;;
   test)
+    need_prometheus
     mvn_batch verify
     ;;
   bench)
