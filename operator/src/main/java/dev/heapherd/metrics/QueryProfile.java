@@ -17,10 +17,10 @@ import java.util.Map;
  */
 public record QueryProfile(String name, Map<Signal, List<String>> templates) {
 
-  /** Copies the map and checks that every signal has a template. */
+  /** Copies the map and checks that every signal the estimator needs has a template. */
   public QueryProfile {
     for (Signal s : Signal.values()) {
-      if (templates.getOrDefault(s, List.of()).isEmpty()) {
+      if (s.required() && templates.getOrDefault(s, List.of()).isEmpty()) {
         throw new IllegalArgumentException(name + ": no template for " + s.key());
       }
     }
@@ -36,7 +36,7 @@ public record QueryProfile(String name, Map<Signal, List<String>> templates) {
 
   /** The templates of {@code signal} with the placeholders filled in. */
   public List<String> queries(Signal signal, String selector, long windowSeconds) {
-    return templates.get(signal).stream()
+    return templates.getOrDefault(signal, List.of()).stream()
         .map(t -> t.replace("${selector}", selector).replace("${window}", windowSeconds + "s"))
         .toList();
   }

@@ -73,11 +73,117 @@ public final class QueryProfiles {
                   "sum " + BY_POD
                       + " (resets(jvm_gc_memory_allocated_bytes_total{${selector}}[${window}]))")));
 
+  /** Prometheus client_java's JVM instrumentation (JvmMetrics) with its process metrics. */
+  public static final QueryProfile CLIENT_JAVA =
+      new QueryProfile(
+          "client-java",
+          Map.of(
+              Signal.LIVE_BYTES,
+              List.of(
+                  // MemoryPoolMXBean collection usage: zero until that pool is collected, which
+                  // for G1 Old Gen means a full GC; hence "!= 0" and the occupancy fallback.
+                  "max " + BY_POD
+                      + " (min_over_time(jvm_memory_pool_collection_used_bytes{${selector},pool=~\""
+                      + OLD_POOLS
+                      + "\"}[${window}])) != 0",
+                  "sum " + BY_POD
+                      + " (min_over_time(jvm_memory_pool_used_bytes{${selector},pool=~\""
+                      + OLD_POOLS
+                      + "\"}[${window}]))"),
+              Signal.HEAP_MAX_BYTES,
+              List.of(
+                  "max " + BY_POD
+                      + " (max_over_time(jvm_memory_max_bytes{${selector},area=\"heap\"}[${window}]))"),
+              Signal.YOUNG_GC_SECONDS_PER_SECOND,
+              List.of(
+                  "sum " + BY_POD
+                      + " (rate(jvm_gc_collection_seconds_sum{${selector},gc!~\""
+                      + OLD_COLLECTORS
+                      + "\"}[${window}]))"),
+              Signal.OLD_GC_SECONDS_PER_SECOND,
+              List.of(
+                  "sum " + BY_POD
+                      + " (rate(jvm_gc_collection_seconds_sum{${selector},gc=~\""
+                      + OLD_COLLECTORS
+                      + "\"}[${window}]))"),
+              Signal.PROMOTION_BYTES_PER_SECOND,
+              List.of(
+                  // Bytes the library saw arrive in the old pool across collections: promotion.
+                  "sum " + BY_POD
+                      + " (rate(jvm_memory_pool_allocated_bytes_total{${selector},pool=~\""
+                      + OLD_POOLS
+                      + "\"}[${window}]))"),
+              Signal.NON_HEAP_BYTES,
+              List.of(
+                  // High-water of resident memory beyond the committed heap, per scrape.
+                  "max " + BY_POD
+                      + " (max_over_time((process_resident_memory_bytes{${selector}}"
+                      + " - on (namespace, pod) jvm_memory_committed_bytes{${selector},area=\"heap\"})"
+                      + "[${window}:])) > 0",
+                  "sum " + BY_POD
+                      + " (max_over_time(jvm_memory_committed_bytes{${selector},area=\"nonheap\"}[${window}]))"),
+              Signal.COLLECTOR_NAMES,
+              List.of(
+                  "count by (namespace, pod, collector) (label_replace("
+                      + "jvm_gc_collection_seconds_count{${selector}}, \"collector\", \"$1\", \"gc\", \"(.*)\"))"),
+              Signal.SAMPLE_COUNT,
+              List.of("sum " + BY_POD + " (count_over_time(up{${selector}}[${window}]))"),
+              Signal.RESTARTS,
+              List.of(
+                  "sum " + BY_POD
+                      + " (changes(process_start_time_seconds{${selector}}[${window}]))")));
+
+  /**
+   * The OpenTelemetry Java agent's runtime metrics through its Prometheus exporter. The agent
+   * exports no promotion figure.
+   */
+  public static final QueryProfile OTEL =
+      new QueryProfile(
+          "otel",
+          Map.of(
+              Signal.LIVE_BYTES,
+              List.of(
+                  "max " + BY_POD
+                      + " (min_over_time(jvm_memory_used_after_last_gc_bytes{${selector},"
+                      + "jvm_memory_pool_name=~\""
+                      + OLD_POOLS
+                      + "\"}[${window}])) != 0",
+                  "sum " + BY_POD
+                      + " (min_over_time(jvm_memory_used_bytes{${selector},jvm_memory_pool_name=~\""
+                      + OLD_POOLS
+                      + "\"}[${window}]))"),
+              Signal.HEAP_MAX_BYTES,
+              List.of(
+                  "sum " + BY_POD
+                      + " (max_over_time(jvm_memory_limit_bytes{${selector},jvm_memory_type=\"heap\"}[${window}]))"),
+              Signal.YOUNG_GC_SECONDS_PER_SECOND,
+              List.of(
+                  "sum " + BY_POD
+                      + " (rate(jvm_gc_duration_seconds_sum{${selector},jvm_gc_action=\"end of minor GC\"}[${window}]))"),
+              Signal.OLD_GC_SECONDS_PER_SECOND,
+              List.of(
+                  "sum " + BY_POD
+                      + " (rate(jvm_gc_duration_seconds_sum{${selector},jvm_gc_action!=\"end of minor GC\"}[${window}]))"),
+              Signal.NON_HEAP_BYTES,
+              List.of(
+                  "sum " + BY_POD
+                      + " (max_over_time(jvm_memory_committed_bytes{${selector},jvm_memory_type=\"non_heap\"}[${window}]))"),
+              Signal.COLLECTOR_NAMES,
+              List.of(
+                  "count by (namespace, pod, collector) (label_replace("
+                      + "jvm_gc_duration_seconds_count{${selector}}, \"collector\", \"$1\", \"jvm_gc_name\", \"(.*)\"))"),
+              Signal.SAMPLE_COUNT,
+              List.of("sum " + BY_POD + " (count_over_time(up{${selector}}[${window}]))"),
+              Signal.RESTARTS,
+              List.of(
+                  "sum " + BY_POD
+                      + " (resets(jvm_cpu_time_seconds_total{${selector}}[${window}]))")));
+
   private QueryProfiles() {}
 
   /** All built-in profiles. */
   public static List<QueryProfile> all() {
-    return List.of(MICROMETER);
+    return List.of(MICROMETER, CLIENT_JAVA, OTEL);
   }
 
   /** The built-in profile called {@code name}. */

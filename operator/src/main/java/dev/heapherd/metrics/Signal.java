@@ -14,7 +14,7 @@ public enum Signal {
   /** GC seconds per second of collections whose frequency depends on heap size (old, full). */
   OLD_GC_SECONDS_PER_SECOND("oldGcSecondsPerSecond"),
   /** Bytes promoted into the old generation per second. */
-  PROMOTION_BYTES_PER_SECOND("promotionBytesPerSecond"),
+  PROMOTION_BYTES_PER_SECOND("promotionBytesPerSecond", false),
   /** High-water of memory beyond the heap: RSS or committed non-heap minus committed heap. */
   NON_HEAP_BYTES("nonHeapBytes"),
   /** One series per pod and collector name, labelled {@code collector}; the value is ignored. */
@@ -25,9 +25,20 @@ public enum Signal {
   RESTARTS("restarts");
 
   private final String key;
+  private final boolean required;
 
   Signal(String key) {
+    this(key, true);
+  }
+
+  Signal(String key, boolean required) {
     this.key = key;
+    this.required = required;
+  }
+
+  /** False for signals some instrumentations do not export; estimates then go without them. */
+  public boolean required() {
+    return required;
   }
 
   /** The name used for overrides in pool files. */
