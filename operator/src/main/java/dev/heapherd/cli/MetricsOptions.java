@@ -39,8 +39,9 @@ final class MetricsOptions {
 
   @Option(
       names = "--profile",
-      description = "How the JVMs export metrics: micrometer, client-java or otel"
-          + " (default: the pool's spec.metrics.profile).")
+      description =
+          "How the JVMs export metrics: micrometer, client-java or otel"
+              + " (default: the pool's spec.metrics.profile).")
   String profile;
 
   @Option(names = "--bearer-token-file", description = "File holding a bearer token to send.")
@@ -69,10 +70,15 @@ final class MetricsOptions {
                     new InputException(
                         "--profile",
                         "",
-                        "unknown profile \"" + profileName + "\" (use micrometer, client-java or otel)"));
+                        "unknown profile \""
+                            + profileName
+                            + "\" (use micrometer, client-java or otel)"));
     for (PoolFile.Query q : pool.metrics().queries()) {
       Signal signal =
-          Arrays.stream(Signal.values()).filter(s -> s.key().equals(q.signal())).findFirst().orElseThrow();
+          Arrays.stream(Signal.values())
+              .filter(s -> s.key().equals(q.signal()))
+              .findFirst()
+              .orElseThrow();
       queries = queries.withOverride(signal, q.promql());
     }
     long window = windowSeconds != null ? windowSeconds : pool.metrics().windowSeconds();

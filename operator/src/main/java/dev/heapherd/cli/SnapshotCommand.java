@@ -56,7 +56,9 @@ final class SnapshotCommand implements Callable<Integer> {
       spec.commandLine().getErr().println("heapherd: " + e.getMessage());
       return Main.EXIT_BAD_INPUT;
     } catch (IOException e) {
-      spec.commandLine().getErr().println("heapherd: cannot write " + output + ": " + e.getMessage());
+      spec.commandLine()
+          .getErr()
+          .println("heapherd: cannot write " + output + ": " + e.getMessage());
       return Main.EXIT_BAD_INPUT;
     }
   }

@@ -5,9 +5,9 @@ import java.util.HashSet;
 import java.util.List;
 
 /**
- * Divides memory among a pool's workloads by the square-root heap limit rule: each heap gets
- * {@code E_i = E0_i + c * sqrt(w_i * k_i)} of headroom over live, clamped to its bounds, with one
- * level {@code c} for the pool. Pure: no I/O.
+ * Divides memory among a pool's workloads by the square-root heap limit rule: each heap gets {@code
+ * E_i = E0_i + c * sqrt(w_i * k_i)} of headroom over live, clamped to its bounds, with one level
+ * {@code c} for the pool. Pure: no I/O.
  */
 public final class Allocator {
 
@@ -71,8 +71,7 @@ public final class Allocator {
       used = addPods(used, workloads.get(i), heaps[i]);
     }
     // Under prices the pool's size is what the prices chose.
-    long budget =
-        objective instanceof Objective.Budget fixed ? fixed.bytes() : used;
+    long budget = objective instanceof Objective.Budget fixed ? fixed.bytes() : used;
 
     // The comparison rules get the same memory the proposal may use (all of it when feasible).
     double heapTarget = feasible ? budget - overheadBytes : optimum.minimumTotal();

@@ -12,7 +12,9 @@ public enum GcConstantEstimator {
    * model's own terms, used when the measured GC time has no heap-dependent part to calibrate from.
    */
   PROMOTION_MODEL("promotion-model"),
-  /** No heap-dependent GC time was measured and no model inputs exist: k = 0, heap stays at floor. */
+  /**
+   * No heap-dependent GC time was measured and no model inputs exist: k = 0, heap stays at floor.
+   */
   NO_HEAP_DEPENDENT_GC("no-heap-dependent-gc");
 
   private final String label;

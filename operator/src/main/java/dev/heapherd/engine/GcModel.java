@@ -31,7 +31,9 @@ public record GcModel(
     }
   }
 
-  /** GC seconds per second of one pod whose heap leaves {@code extraBytes} of headroom over live. */
+  /**
+   * GC seconds per second of one pod whose heap leaves {@code extraBytes} of headroom over live.
+   */
   public double gcFraction(double extraBytes) {
     double usable = extraBytes - offsetBytes;
     if (usable <= 0) {

@@ -21,7 +21,8 @@ public record HeapBounds(long lowBytes, Bound lowBound, long highBytes, Bound hi
     HeapRules rules = w.rules();
     double safeFloor =
         Math.max(
-            Math.max((double) rules.minHeapBytes(), w.liveBytes() * (1 + rules.minHeadroomFraction())),
+            Math.max(
+                (double) rules.minHeapBytes(), w.liveBytes() * (1 + rules.minHeadroomFraction())),
             (double) w.liveBytes() + w.gc().offsetBytes() + MIN_USABLE_HEADROOM_BYTES);
     double stepFloor = w.currentHeapBytes() * (1 - Math.min(1, rules.maxStepFraction()));
     double stepCeiling = w.currentHeapBytes() * (1 + rules.maxStepFraction());

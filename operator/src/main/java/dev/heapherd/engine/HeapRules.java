@@ -6,8 +6,8 @@ package dev.heapherd.engine;
  * @param minHeapBytes absolute heap floor (0 for none)
  * @param maxHeapBytes absolute heap ceiling ({@link Long#MAX_VALUE} for none)
  * @param minHeadroomFraction heap must be at least {@code live * (1 + this)}
- * @param maxStepFraction at most this fraction of the current heap changes in one step (>= 1 for
- *     no step limit on growth; shrink is then limited to the whole heap)
+ * @param maxStepFraction at most this fraction of the current heap changes in one step (>= 1 for no
+ *     step limit on growth; shrink is then limited to the whole heap)
  * @param marginBytes safety margin added to heap and non-heap in the container limit
  */
 public record HeapRules(

@@ -24,7 +24,9 @@ public final class Units {
     return Math.floorDiv(bytes + MIB - 1, MIB) * MIB;
   }
 
-  /** Largest whole MiB at or below {@code bytes}, saturating at the largest whole MiB a long holds. */
+  /**
+   * Largest whole MiB at or below {@code bytes}, saturating at the largest whole MiB a long holds.
+   */
   public static long roundDownToMib(double bytes) {
     long mebibytes = (long) Math.floor(bytes / MIB);
     return Math.min(mebibytes, Long.MAX_VALUE / MIB) * MIB;

@@ -68,10 +68,11 @@ final class WaterFilling {
    * its high bound when even that total stays below the target. Callers check the minimum first.
    *
    * <p>Narrows an interval {@code [lower, upper]} of levels that holds the answer, pivoting on
-   * randomly chosen breakpoints inside it (as quickselect does, with several pivots per sweep). Terms whose state no longer
-   * changes inside the interval fold into a constant and a slope, so every round works only on the
-   * terms that still have a breakpoint inside: expected O(n) work in all. When none is left the
-   * total is linear on the interval and the level follows in closed form.
+   * randomly chosen breakpoints inside it (as quickselect does, with several pivots per sweep).
+   * Terms whose state no longer changes inside the interval fold into a constant and a slope, so
+   * every round works only on the terms that still have a breakpoint inside: expected O(n) work in
+   * all. When none is left the total is linear on the interval and the level follows in closed
+   * form.
    */
   double levelFor(double target) {
     // Working copies of the terms that still matter, compacted in place every round so the hot

@@ -42,8 +42,8 @@ final class Documents {
   }
 
   /**
-   * The YAML scanner knows where the problem really is and what it is (a tab, an unclosed
-   * bracket); Jackson's own location is that of the last good token, so prefer the scanner's.
+   * The YAML scanner knows where the problem really is and what it is (a tab, an unclosed bracket);
+   * Jackson's own location is that of the last good token, so prefer the scanner's.
    */
   private static InputException malformed(String file, JacksonException e) {
     String format = file.endsWith(".json") ? "JSON" : "YAML";

@@ -25,7 +25,8 @@ final class Field {
   static final double MAX_NUMBER = 1e15;
 
   /** Plain decimal notation only: no hex, no type suffixes, no NaN or Infinity. */
-  private static final Pattern DECIMAL = Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?");
+  private static final Pattern DECIMAL =
+      Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?");
 
   /** Kubernetes object names are DNS subdomains (RFC 1123), as the API server checks them. */
   private static final Pattern OBJECT_NAME =

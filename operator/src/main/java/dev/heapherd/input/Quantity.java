@@ -47,8 +47,8 @@ public final class Quantity {
    * Parses a Kubernetes memory quantity such as {@code 512Mi}, {@code 1.5Gi}, {@code 129M} or
    * {@code 129e6} into bytes, rounding any fraction of a byte away from zero.
    *
-   * @throws IllegalArgumentException if the text is not a quantity, has an unknown unit or does
-   *     not fit in a {@code long}
+   * @throws IllegalArgumentException if the text is not a quantity, has an unknown unit or does not
+   *     fit in a {@code long}
    */
   public static long parseBytes(String text) {
     if (text == null) {
@@ -151,7 +151,6 @@ public final class Quantity {
         .divide(BigDecimal.valueOf(unit), decimals, RoundingMode.HALF_UP)
         .toPlainString();
   }
-
 
   // Quotes text for a one-line message, escaping anything that would break the line.
   private static String quote(String text) {

@@ -15,7 +15,8 @@ public final class SnapshotReader {
   public static final Set<String> KINDS = Set.of("Deployment", "StatefulSet");
 
   /** Collectors of HotSpot-based JVMs that the model covers. */
-  public static final Set<String> COLLECTORS = Set.of("Serial", "Parallel", "G1", "ZGC", "Shenandoah");
+  public static final Set<String> COLLECTORS =
+      Set.of("Serial", "Parallel", "G1", "ZGC", "Shenandoah");
 
   /** Upper bound on replicas, the largest a Deployment's int32 field can say. */
   static final long MAX_REPLICAS = Integer.MAX_VALUE;
@@ -112,7 +113,8 @@ public final class SnapshotReader {
           .error("is above gcSecondsPerSecond: the heap-independent part cannot exceed the total");
     }
     var collectorSpeed = f.optionalNonNegativeNumber("collectorBytesPerSecond");
-    if (collectorSpeed.isPresent() && collectorSpeed.getAsDouble() < MIN_COLLECTOR_BYTES_PER_SECOND) {
+    if (collectorSpeed.isPresent()
+        && collectorSpeed.getAsDouble() < MIN_COLLECTOR_BYTES_PER_SECOND) {
       throw f.required("collectorBytesPerSecond").error("must be at least 1 byte per second");
     }
     return new Snapshot.Workload(

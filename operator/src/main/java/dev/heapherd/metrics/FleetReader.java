@@ -11,8 +11,8 @@ import java.util.Set;
 import java.util.TreeMap;
 
 /**
- * Fetches every signal of a profile for all pods matching a selector: a handful of queries per
- * pool (a few per signal), never one per pod.
+ * Fetches every signal of a profile for all pods matching a selector: a handful of queries per pool
+ * (a few per signal), never one per pod.
  */
 public final class FleetReader {
 
@@ -31,8 +31,8 @@ public final class FleetReader {
   }
 
   /**
-   * Reads the pods that match {@code selector} over the {@code windowSeconds} ending at {@code
-   * at}. Pods are those scraped in the window (the sample count query answers for them).
+   * Reads the pods that match {@code selector} over the {@code windowSeconds} ending at {@code at}.
+   * Pods are those scraped in the window (the sample count query answers for them).
    */
   public List<PodSignals> read(String selector, long windowSeconds, Instant at)
       throws MetricsException {
@@ -51,7 +51,9 @@ public final class FleetReader {
             continue;
           }
           Map<Signal, Double> pod = values.computeIfAbsent(key, k -> new EnumMap<>(Signal.class));
-          if (pod.putIfAbsent(signal, sample.value()) == null && signal == Signal.LIVE_BYTES && i > 0) {
+          if (pod.putIfAbsent(signal, sample.value()) == null
+              && signal == Signal.LIVE_BYTES
+              && i > 0) {
             liveFallback.add(key);
           }
         }

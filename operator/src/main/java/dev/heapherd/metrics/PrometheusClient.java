@@ -206,7 +206,8 @@ public final class PrometheusClient {
       return context;
     } catch (IOException | GeneralSecurityException e) {
       throw new MetricsException(
-          MetricsException.Kind.UNREACHABLE, caFile + ": cannot read CA certificate: " + e.getMessage());
+          MetricsException.Kind.UNREACHABLE,
+          caFile + ": cannot read CA certificate: " + e.getMessage());
     }
   }
 }

@@ -10,8 +10,8 @@ import java.util.Set;
 import java.util.TreeSet;
 
 /**
- * Turns the pods of one workload into the snapshot's per-pod numbers, or holds the workload with
- * a reason when the data cannot be trusted. It never guesses.
+ * Turns the pods of one workload into the snapshot's per-pod numbers, or holds the workload with a
+ * reason when the data cannot be trusted. It never guesses.
  */
 public final class WorkloadEstimator {
 
@@ -55,22 +55,36 @@ public final class WorkloadEstimator {
       for (var entry : pod.values().entrySet()) {
         if (!Double.isFinite(entry.getValue())) {
           return new Held(
-              name, "Prometheus returned " + entry.getValue() + " for " + entry.getKey().key() + " of pod " + pod.pod());
+              name,
+              "Prometheus returned "
+                  + entry.getValue()
+                  + " for "
+                  + entry.getKey().key()
+                  + " of pod "
+                  + pod.pod());
         }
       }
       long samples = (long) pod.value(Signal.SAMPLE_COUNT).orElse(0);
       if (samples < MIN_SAMPLES) {
         return new Held(
             name,
-            "pod " + pod.pod() + " has " + samples + " samples in the window, fewer than " + MIN_SAMPLES);
+            "pod "
+                + pod.pod()
+                + " has "
+                + samples
+                + " samples in the window, fewer than "
+                + MIN_SAMPLES);
       }
       if (pod.value(Signal.RESTARTS).orElse(0) > 0) {
         return new Held(
-            name, "pod " + pod.pod() + " restarted in the window (a counter reset): not in steady state");
+            name,
+            "pod " + pod.pod() + " restarted in the window (a counter reset): not in steady state");
       }
-      for (Signal required : List.of(Signal.HEAP_MAX_BYTES, Signal.LIVE_BYTES, Signal.NON_HEAP_BYTES)) {
+      for (Signal required :
+          List.of(Signal.HEAP_MAX_BYTES, Signal.LIVE_BYTES, Signal.NON_HEAP_BYTES)) {
         if (pod.value(required).isEmpty()) {
-          return new Held(name, "no " + required.key() + " for pod " + pod.pod() + missingHint(required));
+          return new Held(
+              name, "no " + required.key() + " for pod " + pod.pod() + missingHint(required));
         }
       }
     }
@@ -93,7 +107,8 @@ public final class WorkloadEstimator {
     boolean liveFallback = pods.stream().anyMatch(PodSignals::liveFromFallback);
     List<String> notes = new ArrayList<>();
     if (liveFallback) {
-      notes.add("live bytes from the old pool's lowest occupancy: no after-GC figure in the window");
+      notes.add(
+          "live bytes from the old pool's lowest occupancy: no after-GC figure in the window");
     }
     if (old == 0) {
       notes.add("no old-generation or concurrent collection in the window");
@@ -130,9 +145,9 @@ public final class WorkloadEstimator {
   }
 
   /**
-   * The collector from GarbageCollectorMXBean names (HotSpot's names: "Copy"/"MarkSweepCompact"
-   * for Serial, "PS Scavenge"/"PS MarkSweep" for Parallel, "G1 ..." for G1, "ZGC ..." and
-   * "Shenandoah ..." for those). Pods that disagree are mid-rollout: unknown.
+   * The collector from GarbageCollectorMXBean names (HotSpot's names: "Copy"/"MarkSweepCompact" for
+   * Serial, "PS Scavenge"/"PS MarkSweep" for Parallel, "G1 ..." for G1, "ZGC ..." and "Shenandoah
+   * ..." for those). Pods that disagree are mid-rollout: unknown.
    */
   static Optional<String> collector(List<PodSignals> pods) {
     Set<String> found = new TreeSet<>();

@@ -9,8 +9,16 @@ import java.util.Locale;
 public final class PlanTable {
 
   private static final String[] HEADER = {
-    "WORKLOAD", "PODS", "LIVE", "HEAP NOW", "HEAP NEXT", "LIMIT NEXT", "GC s/h NOW", "GC s/h NEXT",
-    "DECIDED BY", "k FROM"
+    "WORKLOAD",
+    "PODS",
+    "LIVE",
+    "HEAP NOW",
+    "HEAP NEXT",
+    "LIMIT NEXT",
+    "GC s/h NOW",
+    "GC s/h NEXT",
+    "DECIDED BY",
+    "k FROM"
   };
 
   private PlanTable() {}
@@ -76,10 +84,20 @@ public final class PlanTable {
     List<String> binding =
         doc.workloads().stream()
             .filter(w -> !"none".equals(w.bound()))
-            .map(w -> w.name() + " at its " + w.bound() + " (" + Quantity.format(w.heapBytes()) + ")")
+            .map(
+                w ->
+                    w.name() + " at its " + w.bound() + " (" + Quantity.format(w.heapBytes()) + ")")
             .toList();
     for (var h : doc.held()) {
-      out.append("Held, sizes unchanged: ").append(h.name()).append(": ").append(h.reason()).append('\n');
+      out.append("Held, sizes unchanged: ")
+          .append(h.name())
+          .append(": ")
+          .append(h.reason())
+          .append('\n');
+    }
+    if (!doc.held().isEmpty()) {
+      out.append("The budget above is divided among measured workloads only: make sure it leaves")
+          .append(" room for the held ones.\n");
     }
     out.append("Binding constraints: ")
         .append(binding.isEmpty() ? "none" : String.join(", ", binding))

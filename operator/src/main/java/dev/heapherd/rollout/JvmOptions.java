@@ -29,8 +29,7 @@ public final class JvmOptions {
   private static final List<String> MAX_HEAP_SIZE_FLAGS = List.of(XMX, "-XX:MaxHeapSize=");
   private static final List<String> MAX_HEAP_RAM_FLAGS =
       List.of("-XX:MaxRAMPercentage=", "-XX:MaxRAM=", "-XX:MaxRAMFraction=");
-  private static final List<String> INITIAL_HEAP_SIZE_FLAGS =
-      List.of(XMS, "-XX:InitialHeapSize=");
+  private static final List<String> INITIAL_HEAP_SIZE_FLAGS = List.of(XMS, "-XX:InitialHeapSize=");
   private static final List<String> INITIAL_HEAP_RAM_FLAGS =
       List.of("-XX:InitialRAMPercentage=", "-XX:InitialRAMFraction=");
 
@@ -41,8 +40,8 @@ public final class JvmOptions {
 
   /**
    * Returns {@code options} with every maximum-heap flag replaced by one {@code -Xmx}, and, when
-   * {@code initialHeapBytes} is present, every initial-heap flag replaced by one {@code -Xms}
-   * right after it; all other tokens are kept verbatim and joined by single spaces.
+   * {@code initialHeapBytes} is present, every initial-heap flag replaced by one {@code -Xms} right
+   * after it; all other tokens are kept verbatim and joined by single spaces.
    *
    * @param options the JVM options value, may be null or blank
    * @param maxHeapBytes the new maximum heap, positive

@@ -14,8 +14,8 @@ import net.jqwik.api.Provide;
 
 /**
  * Properties of the allocator on random pools. The optimality conditions checked here are the
- * Karush-Kuhn-Tucker conditions of a separable convex problem under one linear budget constraint,
- * a textbook result (Boyd and Vandenberghe, "Convex Optimization", Cambridge University Press,
+ * Karush-Kuhn-Tucker conditions of a separable convex problem under one linear budget constraint, a
+ * textbook result (Boyd and Vandenberghe, "Convex Optimization", Cambridge University Press,
  * section 5.5.3).
  */
 class AllocatorProperties {
@@ -116,27 +116,27 @@ class AllocatorProperties {
 
   @Property(tries = 300)
   void freeExtraFollowsTheClosedFormAndScalesWithTheFreeBudget(
-      @ForAll("unbounded") List<Workload> pool,
-      @ForAll("budgetFactor") double factor) {
+      @ForAll("unbounded") List<Workload> pool, @ForAll("budgetFactor") double factor) {
     Assume.that(pool.stream().allMatch(w -> w.gc().constantBytes() > 0));
     // Closed form of the published rule with offset: E_i = E0_i + c*sqrt(w_i*k_i), with
     // c = (B - sum n_i*(L_i + E0_i + O_i)) / sum n_i*sqrt(w_i*k_i) (DESIGN.md, "The model").
     double fixed = 0;
     double pull = 0;
     for (Workload w : pool) {
-      fixed += w.replicas() * ((double) w.liveBytes() + w.gc().offsetBytes() + w.podOverheadBytes());
+      fixed +=
+          w.replicas() * ((double) w.liveBytes() + w.gc().offsetBytes() + w.podOverheadBytes());
       pull += w.replicas() * w.pull();
     }
     long budget = (long) (fixed + factor * 1000 * pull * MIB / Math.sqrt(MIB));
     PoolPlan plan = Allocator.plan(pool, new Objective.Budget(budget));
-    PoolPlan doubled =
-        Allocator.plan(pool, new Objective.Budget(budget + (long) (budget - fixed)));
+    PoolPlan doubled = Allocator.plan(pool, new Objective.Budget(budget + (long) (budget - fixed)));
     Assume.that(plan.workloads().stream().allMatch(p -> p.bound() == Bound.NONE));
     double c = (budget - fixed) / pull;
     assertThat(plan.level()).isCloseTo(c, within(c * 1e-9));
     for (int i = 0; i < pool.size(); i++) {
       Workload w = pool.get(i);
-      double extra = plan.workloads().get(i).optimalHeapBytes() - w.liveBytes() - w.gc().offsetBytes();
+      double extra =
+          plan.workloads().get(i).optimalHeapBytes() - w.liveBytes() - w.gc().offsetBytes();
       double extraDoubled =
           doubled.workloads().get(i).optimalHeapBytes() - w.liveBytes() - w.gc().offsetBytes();
       assertThat(extra).isCloseTo(c * w.pull(), within(extra * 1e-9 + 1));
@@ -153,6 +153,7 @@ class AllocatorProperties {
     Assume.that(plan.feasible());
     PoolPlan more = Allocator.plan(pool, new Objective.Budget(budget + budget / 10));
     assertThat(Pools.objective(pool, Pools.optimalHeaps(more)))
-        .isLessThanOrEqualTo(Pools.objective(pool, Pools.optimalHeaps(plan)) * (1 + RELATIVE_TOLERANCE));
+        .isLessThanOrEqualTo(
+            Pools.objective(pool, Pools.optimalHeaps(plan)) * (1 + RELATIVE_TOLERANCE));
   }
 }

@@ -107,12 +107,17 @@ class AllocatorTest {
 
   @Test
   void aWorkloadWithoutHeapDependentGcStaysAtItsFloor() {
-    GcModel flat = GcConstants.estimate(0.01, 0.01, 2 * GIB, GIB, 0, OptionalDouble.empty(), OptionalDouble.empty());
-    Workload young = new Workload("young", 1, GIB, 2 * GIB, 0, 1, flat, new HeapRules(0, Long.MAX_VALUE, 0.2, 10, 0));
+    GcModel flat =
+        GcConstants.estimate(
+            0.01, 0.01, 2 * GIB, GIB, 0, OptionalDouble.empty(), OptionalDouble.empty());
+    Workload young =
+        new Workload(
+            "young", 1, GIB, 2 * GIB, 0, 1, flat, new HeapRules(0, Long.MAX_VALUE, 0.2, 10, 0));
     Workload busy = workload("busy", 1, 1000, 1500, 0.05, OPEN);
     PoolPlan plan = Allocator.plan(List.of(young, busy), new Objective.Budget(8 * GIB));
     assertThat(flat.estimator()).isEqualTo(GcConstantEstimator.NO_HEAP_DEPENDENT_GC);
-    assertThat(plan.workloads().get(0).heapBytes()).isEqualTo(plan.workloads().get(0).bounds().lowBytes());
+    assertThat(plan.workloads().get(0).heapBytes())
+        .isEqualTo(plan.workloads().get(0).bounds().lowBytes());
     assertThat(plan.workloads().get(0).bound()).isEqualTo(Bound.FLOOR);
   }
 

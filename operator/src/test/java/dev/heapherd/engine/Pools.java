@@ -19,12 +19,12 @@ final class Pools {
     Arbitrary<Long> liveMib = Arbitraries.longs().between(16, 16 * 1024);
     Arbitrary<Double> headroomFactor = Arbitraries.doubles().between(0.3, 3.0);
     Arbitrary<Double> gcFraction = Arbitraries.doubles().between(0.0001, 0.2).ofScale(6);
-    Arbitrary<Long> offsetMib = Arbitraries.oneOf(Arbitraries.just(0L), Arbitraries.longs().between(1, 64));
+    Arbitrary<Long> offsetMib =
+        Arbitraries.oneOf(Arbitraries.just(0L), Arbitraries.longs().between(1, 64));
     Arbitrary<Integer> replicas = Arbitraries.integers().between(1, 20);
     Arbitrary<Integer> weight = Arbitraries.integers().between(1, 5);
     Arbitrary<Long> nonHeapMib = Arbitraries.longs().between(50, 600);
-    Arbitrary<HeapRules> rules =
-        withRules ? rules() : Arbitraries.just(HeapRules.unbounded());
+    Arbitrary<HeapRules> rules = withRules ? rules() : Arbitraries.just(HeapRules.unbounded());
     return Combinators.combine(
             liveMib, headroomFactor, gcFraction, offsetMib, replicas, weight, nonHeapMib, rules)
         .as(
@@ -40,8 +40,7 @@ final class Pools {
                       offset * MIB,
                       OptionalDouble.empty(),
                       OptionalDouble.empty());
-              return new Workload(
-                  "w", n, liveBytes, heap, nonHeap * MIB, w, model, r);
+              return new Workload("w", n, liveBytes, heap, nonHeap * MIB, w, model, r);
             });
   }
 
@@ -64,11 +63,7 @@ final class Pools {
 
   /** Pools of 1 to 12 workloads with unique names. */
   static Arbitrary<List<Workload>> pools(boolean withRules) {
-    return workloads(withRules)
-        .list()
-        .ofMinSize(1)
-        .ofMaxSize(12)
-        .map(Pools::named);
+    return workloads(withRules).list().ofMinSize(1).ofMaxSize(12).map(Pools::named);
   }
 
   static List<Workload> named(List<Workload> ws) {
@@ -94,8 +89,7 @@ final class Pools {
     double sum = 0;
     for (int i = 0; i < heapBytes.length; i++) {
       Workload w = workloads.get(i);
-      sum +=
-          w.replicas() * w.weight() * w.gc().heapDependentFraction(heapBytes[i] - w.liveBytes());
+      sum += w.replicas() * w.weight() * w.gc().heapDependentFraction(heapBytes[i] - w.liveBytes());
     }
     return sum;
   }

@@ -2,7 +2,6 @@ package dev.heapherd.input;
 
 import static dev.heapherd.engine.Units.GIB;
 import static dev.heapherd.engine.Units.MIB;
-
 import static org.assertj.core.api.Assertions.assertThat;
 import static org.assertj.core.api.Assertions.assertThatThrownBy;
 
@@ -66,14 +65,7 @@ class QuantityTest {
   }
 
   @ParameterizedTest
-  @CsvSource({
-    "1m, 1",
-    "1500m, 2",
-    "0.1, 1",
-    "1.0001Ki, 1025",
-    "1e-3, 1",
-    "1e-999999999, 1"
-  })
+  @CsvSource({"1m, 1", "1500m, 2", "0.1, 1", "1.0001Ki, 1025", "1e-3, 1", "1e-999999999, 1"})
   void roundsFractionsOfAByteUp(String text, long expected) {
     assertThat(Quantity.parseBytes(text)).isEqualTo(expected);
   }

@@ -65,8 +65,10 @@ final class FakeExporter implements AutoCloseable {
   private String text() {
     Values v = values;
     double seconds = (System.nanoTime() - startNanos) / 1e9;
-    String young = "action=\"end of minor GC\",cause=\"G1 Evacuation Pause\",gc=\"G1 Young Generation\"";
-    String old = "action=\"end of major GC\",cause=\"G1 Compaction Pause\",gc=\"G1 Old Generation\"";
+    String young =
+        "action=\"end of minor GC\",cause=\"G1 Evacuation Pause\",gc=\"G1 Young Generation\"";
+    String old =
+        "action=\"end of major GC\",cause=\"G1 Compaction Pause\",gc=\"G1 Old Generation\"";
     return String.join(
         "\n",
         line("jvm_gc_pause_seconds_count{" + young + "}", seconds),

@@ -10,9 +10,9 @@ import java.nio.file.Path;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
+import java.util.Comparator;
 import java.util.LinkedHashMap;
 import java.util.List;
-import java.util.Comparator;
 import java.util.Map;
 import java.util.concurrent.CopyOnWriteArrayList;
 import java.util.concurrent.Executors;
@@ -26,9 +26,9 @@ import org.junit.jupiter.params.provider.MethodSource;
 
 /**
  * Three real workload JVMs with different live sizes and rates, scraped every second by the real
- * Prometheus, under each of the three instrumentations. The estimates are checked against what
- * each workload holds and replaces, and GC time against the JDK's own GarbageCollectorMXBean
- * totals read from the workload.
+ * Prometheus, under each of the three instrumentations. The estimates are checked against what each
+ * workload holds and replaces, and GC time against the JDK's own GarbageCollectorMXBean totals read
+ * from the workload.
  */
 class FleetMetricsIT {
 
@@ -56,17 +56,18 @@ class FleetMetricsIT {
 
   static {
     // pod name -> {max heap MiB, live MiB, replace MiB/s x 10, garbage MiB/s}. Replaced objects
-    // live (live / replace) seconds, longer than the ~15 young collections it takes to reach the
-    // tenuring age at these garbage rates, so they are promoted; old collections come every 13 to
-    // 19 seconds, so the window sees at least one.
-    FLEET.put("ledger-7d9f8c6b5-x2x7q", new long[] {160, 80, 20, 64});
-    FLEET.put("quotes-5c8d7b9f4-mm2zp", new long[] {96, 40, 15, 64});
+    // live (live / replace) seconds, longer than it takes to reach the tenuring age at these
+    // garbage rates, so they are promoted by young collections; live stays near half the old
+    // generation, so the collector need not fall back to full collections to promote, and old
+    // collections come every 15 to 20 seconds, so the window sees at least one.
+    FLEET.put("ledger-7d9f8c6b5-x2x7q", new long[] {224, 80, 40, 64});
+    FLEET.put("quotes-5c8d7b9f4-mm2zp", new long[] {128, 40, 30, 64});
     FLEET.put("relay-0", new long[] {128, 48, 20, 48});
   }
 
   /**
-   * G1 keeps some garbage in the old generation after its mixed collections: regions more than
-   * 85 percent live are not collected and up to 5 percent of the heap may stay as waste (the
+   * G1 keeps some garbage in the old generation after its mixed collections: regions more than 85
+   * percent live are not collected and up to 5 percent of the heap may stay as waste (the
    * documented JDK defaults of G1MixedGCLiveThresholdPercent and G1HeapWastePercent). Occupancy
    * based live estimates therefore read high by up to that much, never low.
    */
@@ -94,8 +95,7 @@ class FleetMetricsIT {
         long[] p = entry.getValue();
         WorkloadProcess jvm =
             WorkloadProcess.start(
-                new WorkloadProcess.Spec(
-                    instrumentation, collector, p[0], p[1], p[2] / 10.0, p[3]),
+                new WorkloadProcess.Spec(instrumentation, collector, p[0], p[1], p[2] / 10.0, p[3]),
                 dir,
                 entry.getKey());
         jvms.add(jvm);
@@ -136,24 +136,34 @@ class FleetMetricsIT {
         WorkloadProcess jvm = jvms.get(i);
         String name = PodOwners.of(entry.getKey()).orElseThrow().name();
         Snapshot.Workload w =
-            snapshot.workloads().stream().filter(x -> x.name().equals(name)).findFirst().orElseThrow();
+            snapshot.workloads().stream()
+                .filter(x -> x.name().equals(name))
+                .findFirst()
+                .orElseThrow();
         var truth = jvm.truth();
-        double held = truth.path("heldBytes").asDouble();
+        // What the JVM keeps alive: the workload's live set plus its runtime's and library's own.
+        double held =
+            truth.path("heldBytes").asDouble() + truth.path("baselineLiveBytes").asDouble();
         if (g1) {
           double heap = entry.getValue()[0] * 1024.0 * 1024.0;
           soft.assertThat((double) w.liveBytes())
               .as(name + " live bytes under G1")
-              .isBetween(held * (1 - LIVE_TOLERANCE), held / G1_LIVE_THRESHOLD + G1_HEAP_WASTE * heap);
+              .isBetween(
+                  held * (1 - LIVE_TOLERANCE), held / G1_LIVE_THRESHOLD + G1_HEAP_WASTE * heap);
         } else {
           soft.assertThat((double) w.liveBytes())
-              .as(name + " live bytes")
+              .as(name + " live bytes " + w.evidence().notes())
               .isCloseTo(held, within(held * LIVE_TOLERANCE));
         }
         soft.assertThat(w.collector()).isEqualTo(g1 ? "G1" : "Parallel");
         double replace = truth.path("configuredReplaceBytesPerSecond").asDouble();
         if ("otel".equals(instrumentation)) {
-          soft.assertThat(w.promotionBytesPerSecond()).as("the agent exports no promotion").isEmpty();
-        } else {
+          soft.assertThat(w.promotionBytesPerSecond())
+              .as("the agent exports no promotion")
+              .isEmpty();
+        } else if (!g1) {
+          // Under G1 the libraries count promotion as old-generation growth across young pauses,
+          // which mixed collections offset; docs/metrics.md says so. Checked where it is defined.
           soft.assertThat(w.promotionBytesPerSecond().orElse(-1))
               .as(name + " promotion")
               .isCloseTo(replace, within(replace * PROMOTION_TOLERANCE));
@@ -199,7 +209,11 @@ class FleetMetricsIT {
 
   private static void awaitScrapes(PrometheusClient client, long count) {
     String query =
-        "count_over_time(up{namespace=\"" + NAMESPACE + "\"}[" + (WARM_UP_SECONDS + WINDOW_SECONDS) + "s]) >= "
+        "count_over_time(up{namespace=\""
+            + NAMESPACE
+            + "\"}["
+            + (WARM_UP_SECONDS + WINDOW_SECONDS)
+            + "s]) >= "
             + count;
     await()
         .atMost(Duration.ofSeconds(4 * WINDOW_SECONDS))

@@ -47,10 +47,16 @@ class GcSplitIT {
                 "hoarder")) {
       prometheus.setTargets(
           List.of(
-              target(churner, "churner-7d9f8c6b5-x2x7q"), target(hoarder, "hoarder-5c8d7b9f4-mm2zp")));
+              target(churner, "churner-7d9f8c6b5-x2x7q"),
+              target(hoarder, "hoarder-5c8d7b9f4-mm2zp")));
       PrometheusClient client = PrometheusClient.connect(PrometheusEndpoint.of(prometheus.uri()));
       String query =
-          "count_over_time(up{namespace=\"" + NAMESPACE + "\"}[" + WINDOW_SECONDS + "s]) >= " + WINDOW_SECONDS;
+          "count_over_time(up{namespace=\""
+              + NAMESPACE
+              + "\"}["
+              + WINDOW_SECONDS
+              + "s]) >= "
+              + WINDOW_SECONDS;
       await()
           .atMost(Duration.ofSeconds(4 * WINDOW_SECONDS))
           .pollInterval(Duration.ofMillis(500))
@@ -88,7 +94,10 @@ class GcSplitIT {
   }
 
   private static Snapshot.Workload find(Snapshot snapshot, String name) {
-    return snapshot.workloads().stream().filter(w -> w.name().equals(name)).findFirst().orElseThrow();
+    return snapshot.workloads().stream()
+        .filter(w -> w.name().equals(name))
+        .findFirst()
+        .orElseThrow();
   }
 
   private static PrometheusServer.Target target(WorkloadProcess jvm, String pod) {

@@ -15,8 +15,8 @@ import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
 /**
- * The real Prometheus scraping exporters whose values the test controls: exact rates come back
- * as estimates, and every kind of bad data holds its workload with a reason instead of throwing.
+ * The real Prometheus scraping exporters whose values the test controls: exact rates come back as
+ * estimates, and every kind of bad data holds its workload with a reason instead of throwing.
  */
 class MetricsFaultsIT {
 
@@ -56,7 +56,9 @@ class MetricsFaultsIT {
       List<String> expected = List.of("healthy", "nan", "restarted", "vanishing", "ghost");
       Snapshot snapshot = builder.build(NAMESPACE, WINDOW_SECONDS, Instant.now(), expected);
 
-      assertThat(snapshot.workloads()).extracting(Snapshot.Workload::name).containsExactly("healthy");
+      assertThat(snapshot.workloads())
+          .extracting(Snapshot.Workload::name)
+          .containsExactly("healthy");
       Snapshot.Workload w = snapshot.workloads().get(0);
       assertThat(w.kind()).isEqualTo("Deployment");
       assertThat(w.collector()).isEqualTo("G1");
@@ -66,13 +68,15 @@ class MetricsFaultsIT {
       assertThat((double) w.nonHeapBytes()).isCloseTo(HEALTHY.nonHeapBytes(), within(1.0));
       // rate() extrapolates to the window's edges; a tenth covers that at one-second scrapes.
       assertThat(w.youngGcSecondsPerSecond())
-          .isCloseTo(HEALTHY.youngGcSecondsPerSecond(), within(HEALTHY.youngGcSecondsPerSecond() / 10));
+          .isCloseTo(
+              HEALTHY.youngGcSecondsPerSecond(), within(HEALTHY.youngGcSecondsPerSecond() / 10));
       assertThat(w.gcSecondsPerSecond())
           .isCloseTo(
               HEALTHY.youngGcSecondsPerSecond() + HEALTHY.oldGcSecondsPerSecond(),
               within((HEALTHY.youngGcSecondsPerSecond() + HEALTHY.oldGcSecondsPerSecond()) / 10));
       assertThat(w.promotionBytesPerSecond().getAsDouble())
-          .isCloseTo(HEALTHY.promotionBytesPerSecond(), within(HEALTHY.promotionBytesPerSecond() / 10));
+          .isCloseTo(
+              HEALTHY.promotionBytesPerSecond(), within(HEALTHY.promotionBytesPerSecond() / 10));
 
       Map<String, String> held =
           snapshot.held().stream()
@@ -94,8 +98,7 @@ class MetricsFaultsIT {
 
   /** Waits until Prometheus holds {@code count} scrapes of {@code pod} within the window. */
   private static void awaitSamples(PrometheusClient client, String pod, long count) {
-    String query =
-        "count_over_time(up{pod=\"" + pod + "\"}[" + WINDOW_SECONDS + "s])";
+    String query = "count_over_time(up{pod=\"" + pod + "\"}[" + WINDOW_SECONDS + "s])";
     await()
         .atMost(Duration.ofSeconds(3 * WINDOW_SECONDS))
         .pollInterval(Duration.ofMillis(500))
@@ -109,5 +112,4 @@ class MetricsFaultsIT {
     return new PrometheusServer.Target(
         exporter.hostPort(), Map.of("namespace", NAMESPACE, "pod", pod));
   }
-
 }

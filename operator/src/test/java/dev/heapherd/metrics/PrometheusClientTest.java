@@ -21,8 +21,8 @@ import org.junit.jupiter.api.AfterEach;
 import org.junit.jupiter.api.Test;
 
 /**
- * The client against a stand-in HTTP server for answers the real Prometheus cannot be made to
- * give on demand (HTTP 500, a stall). The real server is used in {@code *IT} tests.
+ * The client against a stand-in HTTP server for answers the real Prometheus cannot be made to give
+ * on demand (HTTP 500, a stall). The real server is used in {@code *IT} tests.
  */
 class PrometheusClientTest {
 
@@ -67,7 +67,9 @@ class PrometheusClientTest {
                 + "{\"metric\":{\"pod\":\"c-0\"},\"value\":[1,\"+Inf\"]}]}}",
             Duration.ZERO);
     QueryResult result = client.query("up", Instant.now());
-    assertThat(result.samples()).extracting(s -> s.label("pod")).containsExactly("a-0", "b-0", "c-0");
+    assertThat(result.samples())
+        .extracting(s -> s.label("pod"))
+        .containsExactly("a-0", "b-0", "c-0");
     assertThat(result.samples().get(0).value()).isEqualTo(1.5);
     assertThat(result.samples().get(1).value()).isNaN();
     assertThat(result.samples().get(2).value()).isEqualTo(Double.POSITIVE_INFINITY);
@@ -80,11 +82,17 @@ class PrometheusClientTest {
     expect(serve(500, "boom", Duration.ZERO), MetricsException.Kind.SERVER_ERROR, "HTTP 500");
     stop();
     expect(
-        serve(400, "{\"status\":\"error\",\"errorType\":\"bad_data\",\"error\":\"parse error\"}", Duration.ZERO),
+        serve(
+            400,
+            "{\"status\":\"error\",\"errorType\":\"bad_data\",\"error\":\"parse error\"}",
+            Duration.ZERO),
         MetricsException.Kind.REJECTED,
         "parse error");
     stop();
-    expect(serve(200, "<html>proxy</html>", Duration.ZERO), MetricsException.Kind.BAD_RESPONSE, "proxy");
+    expect(
+        serve(200, "<html>proxy</html>", Duration.ZERO),
+        MetricsException.Kind.BAD_RESPONSE,
+        "proxy");
     stop();
     expect(serve(200, "{}", STALL), MetricsException.Kind.TIMEOUT, "did not answer");
   }

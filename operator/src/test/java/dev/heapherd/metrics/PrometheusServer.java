@@ -62,7 +62,10 @@ final class PrometheusServer implements AutoCloseable {
     StringBuilder json = new StringBuilder("[");
     for (int i = 0; i < list.size(); i++) {
       Target t = list.get(i);
-      json.append(i == 0 ? "" : ",").append("{\"targets\":[\"").append(t.hostPort()).append("\"],\"labels\":{");
+      json.append(i == 0 ? "" : ",")
+          .append("{\"targets\":[\"")
+          .append(t.hostPort())
+          .append("\"],\"labels\":{");
       List<String> labels = new ArrayList<>();
       t.labels().forEach((k, v) -> labels.add("\"" + k + "\":\"" + v + "\""));
       json.append(String.join(",", labels)).append("}}");

@@ -32,13 +32,17 @@ class WorkloadEstimatorTest {
         WorkloadEstimator.estimate(
             "orders",
             "Deployment",
-            List.of(pod("a", 100e6, 512e6, G1), pod("b", 300e6, 512e6, G1), pod("c", 200e6, 512e6, G1)));
+            List.of(
+                pod("a", 100e6, 512e6, G1),
+                pod("b", 300e6, 512e6, G1),
+                pod("c", 200e6, 512e6, G1)));
     assertThat(estimate).isInstanceOf(WorkloadEstimator.Measured.class);
     var w = ((WorkloadEstimator.Measured) estimate).workload();
     assertThat(w.liveBytes()).isEqualTo(200_000_000L);
     assertThat(w.replicas()).isEqualTo(3);
     assertThat(w.collector()).isEqualTo("G1");
-    assertThat(w.gcSecondsPerSecond()).isEqualTo(0.012, org.assertj.core.api.Assertions.within(1e-12));
+    assertThat(w.gcSecondsPerSecond())
+        .isEqualTo(0.012, org.assertj.core.api.Assertions.within(1e-12));
     assertThat(w.youngGcSecondsPerSecond()).isEqualTo(0.01);
     assertThat(w.evidence().confidence()).isEqualTo("High");
   }
@@ -47,7 +51,9 @@ class WorkloadEstimatorTest {
   void holdsOnMixedHeapsMixedCollectorsAndTooFewSamples() {
     assertThat(
             WorkloadEstimator.estimate(
-                "orders", "Deployment", List.of(pod("a", 1e8, 512e6, G1), pod("b", 1e8, 768e6, G1))))
+                "orders",
+                "Deployment",
+                List.of(pod("a", 1e8, 512e6, G1), pod("b", 1e8, 768e6, G1))))
         .isInstanceOfSatisfying(
             WorkloadEstimator.Held.class, h -> assertThat(h.reason()).contains("rollout"));
     assertThat(
@@ -56,7 +62,8 @@ class WorkloadEstimatorTest {
                 "Deployment",
                 List.of(pod("a", 1e8, 512e6, G1), pod("b", 1e8, 512e6, Set.of("PS Scavenge")))))
         .isInstanceOfSatisfying(
-            WorkloadEstimator.Held.class, h -> assertThat(h.reason()).contains("collector unknown"));
+            WorkloadEstimator.Held.class,
+            h -> assertThat(h.reason()).contains("collector unknown"));
     PodSignals sparse = pod("a", 1e8, 512e6, G1);
     Map<Signal, Double> v = new EnumMap<>(sparse.values());
     v.put(Signal.SAMPLE_COUNT, 3.0);
@@ -70,11 +77,17 @@ class WorkloadEstimatorTest {
   @Test
   void collectorNamesFollowHotSpotBeanNames() {
     // GarbageCollectorMXBean names as HotSpot reports them (from memory of JDK 17's beans).
-    assertThat(WorkloadEstimator.collector(List.of(pod("a", 1, 2, Set.of("Copy", "MarkSweepCompact")))))
+    assertThat(
+            WorkloadEstimator.collector(
+                List.of(pod("a", 1, 2, Set.of("Copy", "MarkSweepCompact")))))
         .contains("Serial");
-    assertThat(WorkloadEstimator.collector(List.of(pod("a", 1, 2, Set.of("PS Scavenge", "PS MarkSweep")))))
+    assertThat(
+            WorkloadEstimator.collector(
+                List.of(pod("a", 1, 2, Set.of("PS Scavenge", "PS MarkSweep")))))
         .contains("Parallel");
-    assertThat(WorkloadEstimator.collector(List.of(pod("a", 1, 2, Set.of("ZGC Cycles", "ZGC Pauses")))))
+    assertThat(
+            WorkloadEstimator.collector(
+                List.of(pod("a", 1, 2, Set.of("ZGC Cycles", "ZGC Pauses")))))
         .contains("ZGC");
   }
 

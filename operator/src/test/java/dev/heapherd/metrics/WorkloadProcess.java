@@ -31,6 +31,7 @@ final class WorkloadProcess implements AutoCloseable {
 
   /** Generous: a JVM with the OpenTelemetry agent starts slowly on two busy cores. */
   private static final Duration STARTUP = Duration.ofSeconds(180);
+
   private static final ObjectMapper JSON = new ObjectMapper();
 
   /** What to run. */
@@ -62,10 +63,7 @@ final class WorkloadProcess implements AutoCloseable {
     if ("otel".equals(spec.instrumentation())) {
       command.add("-javaagent:" + OTEL_AGENT);
     }
-    command.addAll(
-        List.of(
-            "-Xmx" + spec.maxHeapMib() + "m",
-            spec.collectorFlag()));
+    command.addAll(List.of("-Xmx" + spec.maxHeapMib() + "m", spec.collectorFlag()));
     command.addAll(List.of(jvmFlags));
     command.addAll(
         List.of(

@@ -186,8 +186,7 @@ class JvmOptionsTest {
 
   @Test
   void lastMaxHeapWins() {
-    assertThat(JvmOptions.maxHeapBytes("-Xmx1g -Dx=y -XX:MaxHeapSize=2g -Xmx3g"))
-        .hasValue(3 * GIB);
+    assertThat(JvmOptions.maxHeapBytes("-Xmx1g -Dx=y -XX:MaxHeapSize=2g -Xmx3g")).hasValue(3 * GIB);
     assertThat(JvmOptions.maxHeapBytes("-Xmx3g -XX:MaxHeapSize=512m")).hasValue(512 * MIB);
   }
 

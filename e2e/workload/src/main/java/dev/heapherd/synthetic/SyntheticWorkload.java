@@ -64,9 +64,10 @@ public final class SyntheticWorkload {
     HeapLayout layout = HeapLayout.ofRunningVm();
     ArrayToucher toucher = new ArrayToucher();
     ReadySignal readySignal = new ReadySignal();
+    long baselineLiveBytes = BaselineHeap.measure();
     LiveSet liveSet = new LiveSet(options.objectSizes(), options.liveBytes(), layout, toucher);
     AllocationDriver driver = new AllocationDriver(options, liveSet, toucher, layout);
-    TruthReader truth = new TruthReader(options, liveSet, driver, readySignal);
+    TruthReader truth = new TruthReader(options, liveSet, driver, readySignal, baselineLiveBytes);
 
     WorkloadServer server;
     try {

@@ -15,6 +15,7 @@ public record Truth(
     boolean ready,
     long configuredLiveBytes,
     long heldBytes,
+    long baselineLiveBytes,
     long heldPayloadBytes,
     long heldArrays,
     double configuredReplaceBytesPerSecond,

@@ -26,9 +26,15 @@ final class TruthReader {
   private final LiveSet liveSet;
   private final AllocationDriver driver;
   private final ReadySignal readySignal;
+  private final long baselineLiveBytes;
 
   TruthReader(
-      WorkloadOptions options, LiveSet liveSet, AllocationDriver driver, ReadySignal readySignal) {
+      WorkloadOptions options,
+      LiveSet liveSet,
+      AllocationDriver driver,
+      ReadySignal readySignal,
+      long baselineLiveBytes) {
+    this.baselineLiveBytes = baselineLiveBytes;
     this.options = options;
     this.liveSet = liveSet;
     this.driver = driver;
@@ -66,6 +72,7 @@ final class TruthReader {
         readySignal.isReady(),
         options.liveBytes(),
         held.heapBytes(),
+        baselineLiveBytes,
         held.payloadBytes(),
         held.arrays(),
         options.replaceBytesPerSecond(),

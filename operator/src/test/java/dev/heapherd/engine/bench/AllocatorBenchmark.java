@@ -26,8 +26,8 @@ import org.openjdk.jmh.annotations.State;
 import org.openjdk.jmh.annotations.Warmup;
 
 /**
- * Time to plan a large pool with floors, ceilings and step limits, including both comparison
- * rules and the forecasts. Target: under 20 ms for 100,000 workloads on a 2-core machine.
+ * Time to plan a large pool with floors, ceilings and step limits, including both comparison rules
+ * and the forecasts. Target: under 20 ms for 100,000 workloads on a 2-core machine.
  */
 @State(Scope.Benchmark)
 @BenchmarkMode(Mode.AverageTime)
