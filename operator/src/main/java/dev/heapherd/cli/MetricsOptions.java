@@ -44,6 +44,13 @@ final class MetricsOptions {
               + " (default: the pool's spec.metrics.profile).")
   String profile;
 
+  @Option(
+      names = "--workload-label",
+      description =
+          "Label naming each pod's workload (default: the pool's"
+              + " spec.metrics.workloadLabel, else from pod names).")
+  String workloadLabel;
+
   @Option(names = "--bearer-token-file", description = "File holding a bearer token to send.")
   Path bearerTokenFile;
 
@@ -89,7 +96,8 @@ final class MetricsOptions {
       throw new InputException("--ca-file", "", e.getMessage());
     }
     var expected = pool.overrides().stream().map(PoolFile.Override::name).toList();
-    return new SnapshotBuilder(new FleetReader(client, queries))
+    String label = workloadLabel != null ? workloadLabel : pool.metrics().workloadLabel();
+    return new SnapshotBuilder(new FleetReader(client, queries), label)
         .build(ns, window, Instant.now(), expected);
   }
 

@@ -35,8 +35,10 @@ public record PoolFile(
    * @param profile the query profile: how the JVMs export their metrics
    * @param windowSeconds the window rates and robust sizes are computed over
    * @param queries replacements for single templates of the profile, by signal name
+   * @param workloadLabel label whose value names a pod's workload; empty: from the pod's name
    */
-  public record Metrics(String profile, long windowSeconds, List<Query> queries) {
+  public record Metrics(
+      String profile, long windowSeconds, List<Query> queries, String workloadLabel) {
     /** Copies the list. */
     public Metrics {
       queries = List.copyOf(queries);

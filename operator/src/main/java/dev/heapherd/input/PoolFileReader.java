@@ -7,6 +7,7 @@ import java.util.HashSet;
 import java.util.List;
 import java.util.Optional;
 import java.util.Set;
+import java.util.regex.Pattern;
 
 /** Reads and validates a HeapPool file. */
 public final class PoolFileReader {
@@ -38,7 +39,10 @@ public final class PoolFileReader {
    * daily load within it. Our default; see docs/metrics.md.
    */
   public static final PoolFile.Metrics DEFAULT_METRICS =
-      new PoolFile.Metrics("micrometer", 3600, List.of());
+      new PoolFile.Metrics("micrometer", 3600, List.of(), "");
+
+  /** Prometheus label names, per its data model documentation. */
+  private static final Pattern PROMETHEUS_LABEL = Pattern.compile("[a-zA-Z_][a-zA-Z0-9_]*");
 
   /** Shortest window: tests use tens of seconds at one-second scrapes. */
   static final long MIN_WINDOW_SECONDS = 10;
@@ -149,7 +153,7 @@ public final class PoolFileReader {
   }
 
   private static PoolFile.Metrics metrics(Field f) throws InputException {
-    f.allowOnly(Set.of("profile", "windowSeconds", "queries"));
+    f.allowOnly(Set.of("profile", "windowSeconds", "queries", "workloadLabel"));
     String profile = f.oneOfOrDefault("profile", PROFILES, DEFAULT_METRICS.profile());
     Long window = f.integerOrNull("windowSeconds", MIN_WINDOW_SECONDS, MAX_WINDOW_SECONDS);
     List<PoolFile.Query> queries = new ArrayList<>();
@@ -164,8 +168,15 @@ public final class PoolFileReader {
         queries.add(new PoolFile.Query(signal, q.required("promql").text()));
       }
     }
+    String label = "";
+    if (f.optional("workloadLabel").isPresent()) {
+      label = f.required("workloadLabel").text();
+      if (!PROMETHEUS_LABEL.matcher(label).matches()) {
+        throw f.required("workloadLabel").error("\"" + label + "\" is not a Prometheus label name");
+      }
+    }
     return new PoolFile.Metrics(
-        profile, window == null ? DEFAULT_METRICS.windowSeconds() : window, queries);
+        profile, window == null ? DEFAULT_METRICS.windowSeconds() : window, queries, label);
   }
 
   private static Objective objective(Field spec) throws InputException {

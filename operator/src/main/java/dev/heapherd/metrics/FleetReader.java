@@ -31,6 +31,29 @@ public final class FleetReader {
   }
 
   /**
+   * The value of {@code label} per pod ({@code namespace/pod}), from the series of Prometheus' own
+   * {@code up} metric: one query whatever the number of pods.
+   */
+  public Map<String, String> podLabel(String selector, String label, long windowSeconds, Instant at)
+      throws MetricsException {
+    String query =
+        "max by (namespace, pod, "
+            + label
+            + ") (max_over_time(up{"
+            + selector
+            + "}["
+            + windowSeconds
+            + "s]))";
+    Map<String, String> values = new HashMap<>();
+    for (Sample sample : client.query(query, at).samples()) {
+      if (!sample.label(label).isEmpty()) {
+        values.put(sample.label("namespace") + "/" + sample.label("pod"), sample.label(label));
+      }
+    }
+    return values;
+  }
+
+  /**
    * Reads the pods that match {@code selector} over the {@code windowSeconds} ending at {@code at}.
    * Pods are those scraped in the window (the sample count query answers for them).
    */

@@ -8,6 +8,7 @@ import java.util.Comparator;
 import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Map;
+import java.util.Optional;
 import java.util.Set;
 import java.util.TreeMap;
 
@@ -15,10 +16,20 @@ import java.util.TreeMap;
 public final class SnapshotBuilder {
 
   private final FleetReader reader;
+  private final String workloadLabel;
 
-  /** A builder reading through {@code reader}. */
+  /** A builder reading through {@code reader} that finds owners from pod names. */
   public SnapshotBuilder(FleetReader reader) {
+    this(reader, "");
+  }
+
+  /**
+   * A builder reading through {@code reader} that takes a pod's workload from the value of {@code
+   * workloadLabel} on its series, or from its name when the label is empty.
+   */
+  public SnapshotBuilder(FleetReader reader, String workloadLabel) {
     this.reader = reader;
+    this.workloadLabel = workloadLabel;
   }
 
   /**
@@ -31,8 +42,13 @@ public final class SnapshotBuilder {
   public Snapshot build(
       String namespace, long windowSeconds, Instant at, Collection<String> expected) {
     List<PodSignals> pods;
+    Map<String, String> labelled = Map.of();
+    String selector = "namespace=\"" + namespace + "\"";
     try {
-      pods = reader.read("namespace=\"" + namespace + "\"", windowSeconds, at);
+      pods = reader.read(selector, windowSeconds, at);
+      if (!workloadLabel.isEmpty()) {
+        labelled = reader.podLabel(selector, workloadLabel, windowSeconds, at);
+      }
     } catch (MetricsException e) {
       List<Snapshot.Held> held =
           expected.stream().map(name -> new Snapshot.Held(name, e.getMessage())).toList();
@@ -43,13 +59,16 @@ public final class SnapshotBuilder {
             Comparator.comparing(PodOwners.Owner::name).thenComparing(PodOwners.Owner::kind));
     List<Snapshot.Held> held = new ArrayList<>();
     for (PodSignals pod : pods) {
-      var owner = PodOwners.of(pod.pod());
+      var owner = owner(pod, labelled);
       if (owner.isPresent()) {
         byOwner.computeIfAbsent(owner.get(), o -> new ArrayList<>()).add(pod);
       } else {
         held.add(
             new Snapshot.Held(
-                pod.pod(), "cannot tell which Deployment or StatefulSet owns this pod"));
+                pod.pod(),
+                workloadLabel.isEmpty()
+                    ? "cannot tell which Deployment or StatefulSet owns this pod"
+                    : "its series carry no " + workloadLabel + " label"));
       }
     }
     List<Snapshot.Workload> measured = new ArrayList<>();
@@ -75,5 +94,18 @@ public final class SnapshotBuilder {
     }
     measured.removeIf(w -> held.stream().anyMatch(h -> h.name().equals(w.name())));
     return new Snapshot(at, windowSeconds, measured, held);
+  }
+
+  /** The pod's owner: by label when one is configured (kind from the name, else Deployment). */
+  private Optional<PodOwners.Owner> owner(PodSignals pod, Map<String, String> labelled) {
+    if (workloadLabel.isEmpty()) {
+      return PodOwners.of(pod.pod());
+    }
+    String name = labelled.get(pod.namespace() + "/" + pod.pod());
+    if (name == null) {
+      return Optional.empty();
+    }
+    String kind = PodOwners.of(pod.pod()).map(PodOwners.Owner::kind).orElse("Deployment");
+    return Optional.of(new PodOwners.Owner(kind, name));
   }
 }

@@ -86,6 +86,14 @@ class MetricsFaultsIT {
       assertThat(held.get("vanishing")).contains("samples");
       assertThat(held.get("ghost")).contains("no pod");
 
+      // The same pods grouped by a label instead of by name.
+      Snapshot byLabel =
+          new SnapshotBuilder(new FleetReader(client, QueryProfiles.MICROMETER), "app")
+              .build(NAMESPACE, WINDOW_SECONDS, Instant.now(), List.of());
+      assertThat(byLabel.workloads())
+          .extracting(Snapshot.Workload::name)
+          .containsExactly("storefront");
+
       prometheus.stop();
       Snapshot down = builder.build(NAMESPACE, WINDOW_SECONDS, Instant.now(), expected);
       assertThat(down.workloads()).isEmpty();
@@ -110,6 +118,13 @@ class MetricsFaultsIT {
 
   private static PrometheusServer.Target target(FakeExporter exporter, String pod) {
     return new PrometheusServer.Target(
-        exporter.hostPort(), Map.of("namespace", NAMESPACE, "pod", pod));
+        exporter.hostPort(),
+        Map.of(
+            "namespace",
+            NAMESPACE,
+            "pod",
+            pod,
+            "app",
+            pod.startsWith("healthy") ? "storefront" : "other"));
   }
 }
