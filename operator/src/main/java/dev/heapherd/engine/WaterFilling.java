@@ -17,7 +17,7 @@ final class WaterFilling {
   private static final long PIVOT_SEED = 0x5eed;
 
   /** Pivots per sweep: enough to narrow fast, few enough that a sweep stays cheap. */
-  private static final int PIVOTS = 8;
+  private static final int PIVOTS = 3;
 
   private final double[] base;
   private final double[] slope;
@@ -88,8 +88,10 @@ final class WaterFilling {
     double constant = 0;
     double slopeSum = 0;
     double upper = 0;
+    double allHigh = 0;
     for (int i = 0; i < base.length; i++) {
       if (slope[i] > 0) {
+        allHigh += count[i] * high[i];
         a[size] = base[i];
         r[size] = slope[i];
         n[size] = count[i];
@@ -103,12 +105,37 @@ final class WaterFilling {
         constant += count[i] * heapAt(i, 0);
       }
     }
-    if (size == 0 || totalAt(upper) <= target) {
+    if (size == 0 || constant + allHigh <= target) {
       return upper;
     }
     double lower = 0;
     SplittableRandom random = new SplittableRandom(PIVOT_SEED);
-    while (true) {
+    while (size > 0) {
+      // Several pivots per pass: one sweep over the terms narrows the interval to about
+      // 1/(PIVOTS+1) of the breakpoints inside it, so few sweeps are needed.
+      int pivots = Math.min(PIVOTS, size);
+      double[] levels = new double[pivots];
+      for (int p = 0; p < pivots; p++) {
+        int pick = random.nextInt(size);
+        double breakpoint = toLow[pick] > lower ? toLow[pick] : toHigh[pick];
+        // Before the first fold a term may have no breakpoint inside: keep pivots in the interval.
+        levels[p] = Math.min(upper, Math.max(lower, breakpoint));
+      }
+      Arrays.sort(levels);
+      double[] totals = new double[pivots];
+      for (int j = 0; j < size; j++) {
+        for (int p = 0; p < pivots; p++) {
+          totals[p] += n[j] * Math.min(hi[j], Math.max(lo[j], a[j] + levels[p] * r[j]));
+        }
+      }
+      for (int p = 0; p < pivots; p++) {
+        double total = totals[p] + constant + slopeSum * levels[p];
+        if (total >= target) {
+          upper = levels[p];
+          break;
+        }
+        lower = levels[p];
+      }
       // Fold terms with no breakpoint strictly inside (lower, upper) into constant and slope.
       int kept = 0;
       for (int j = 0; j < size; j++) {
@@ -131,32 +158,6 @@ final class WaterFilling {
         }
       }
       size = kept;
-      if (size == 0) {
-        break;
-      }
-      // Several pivots per pass: one sweep over the terms narrows the interval to about
-      // 1/(PIVOTS+1) of the breakpoints inside it, so few sweeps are needed.
-      int pivots = Math.min(PIVOTS, size);
-      double[] levels = new double[pivots];
-      for (int p = 0; p < pivots; p++) {
-        int pick = random.nextInt(size);
-        levels[p] = toLow[pick] > lower ? toLow[pick] : toHigh[pick];
-      }
-      Arrays.sort(levels);
-      double[] totals = new double[pivots];
-      for (int j = 0; j < size; j++) {
-        for (int p = 0; p < pivots; p++) {
-          totals[p] += n[j] * Math.min(hi[j], Math.max(lo[j], a[j] + levels[p] * r[j]));
-        }
-      }
-      for (int p = 0; p < pivots; p++) {
-        double total = totals[p] + constant + slopeSum * levels[p];
-        if (total >= target) {
-          upper = levels[p];
-          break;
-        }
-        lower = levels[p];
-      }
     }
     if (slopeSum == 0) {
       return lower;

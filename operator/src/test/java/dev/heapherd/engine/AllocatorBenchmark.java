@@ -1,13 +1,7 @@
-package dev.heapherd.engine.bench;
+package dev.heapherd.engine;
 
 import static dev.heapherd.engine.Units.MIB;
 
-import dev.heapherd.engine.Allocator;
-import dev.heapherd.engine.GcConstants;
-import dev.heapherd.engine.HeapRules;
-import dev.heapherd.engine.Objective;
-import dev.heapherd.engine.PoolPlan;
-import dev.heapherd.engine.Workload;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.OptionalDouble;
@@ -44,7 +38,9 @@ public class AllocatorBenchmark {
   int workloads;
 
   private List<Workload> pool;
-  private Objective budget;
+  private Objective.Budget budget;
+  private WaterFilling proposal;
+  private double heapTarget;
 
   @Setup
   public void setUp() {
@@ -83,6 +79,28 @@ public class AllocatorBenchmark {
       podMemory += (double) replicas * (heap + nonHeap + 64 * MIB);
     }
     budget = new Objective.Budget((long) podMemory);
+    double[] base = new double[workloads];
+    double[] pull = new double[workloads];
+    double[] low = new double[workloads];
+    double[] high = new double[workloads];
+    double[] count = new double[workloads];
+    heapTarget = budget.bytes();
+    for (int i = 0; i < workloads; i++) {
+      Workload w = pool.get(i);
+      HeapBounds bounds = HeapBounds.of(w);
+      base[i] = (double) w.liveBytes() + w.gc().offsetBytes();
+      pull[i] = w.pull();
+      low[i] = bounds.lowBytes();
+      high[i] = bounds.highBytes();
+      count[i] = w.replicas();
+      heapTarget -= (double) w.replicas() * w.podOverheadBytes();
+    }
+    proposal = new WaterFilling(base, pull, low, high, count);
+  }
+
+  @Benchmark
+  public double solve() {
+    return proposal.levelFor(heapTarget);
   }
 
   @Benchmark
