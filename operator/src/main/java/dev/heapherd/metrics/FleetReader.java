@@ -66,7 +66,14 @@ public final class FleetReader {
     for (Signal signal : Signal.values()) {
       List<String> queries = profile.queries(signal, selector, windowSeconds);
       for (int i = 0; i < queries.size(); i++) {
-        for (Sample sample : client.query(queries.get(i), at).samples()) {
+        QueryResult result = client.query(queries.get(i), at);
+        if (!result.warnings().isEmpty()) {
+          // Estimates from part of the fleet's data would look sound and be wrong: refuse them.
+          throw new MetricsException(
+              MetricsException.Kind.PARTIAL_DATA,
+              "Prometheus returned partial data: " + String.join("; ", result.warnings()));
+        }
+        for (Sample sample : result.samples()) {
           String key = sample.label("namespace") + "/" + sample.label("pod");
           namespaces.put(key, sample.label("namespace"));
           if (signal == Signal.COLLECTOR_NAMES) {

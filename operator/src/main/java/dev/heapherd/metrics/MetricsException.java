@@ -13,6 +13,8 @@ public final class MetricsException extends Exception {
     REJECTED,
     /** The server failed (HTTP 5xx). */
     SERVER_ERROR,
+    /** Prometheus answered with warnings: some of the data is missing. */
+    PARTIAL_DATA,
     /** The answer was not a Prometheus API response. */
     BAD_RESPONSE
   }

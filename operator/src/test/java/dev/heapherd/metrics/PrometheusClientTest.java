@@ -110,6 +110,23 @@ class PrometheusClientTest {
     assertThat(snapshot.held()).allMatch(h -> h.reason().contains("cannot connect"));
   }
 
+  @Test
+  void partialDataHoldsEveryExpectedWorkload() throws Exception {
+    PrometheusClient client =
+        serve(
+            200,
+            "{\"status\":\"success\",\"warnings\":[\"store eu-1 unreachable\"],"
+                + "\"data\":{\"resultType\":\"vector\",\"result\":[]}}",
+            Duration.ZERO);
+    Snapshot snapshot =
+        new SnapshotBuilder(new FleetReader(client, QueryProfiles.MICROMETER))
+            .build("shop", 60, Instant.now(), List.of("orders"));
+    assertThat(snapshot.workloads()).isEmpty();
+    assertThat(snapshot.held())
+        .singleElement()
+        .satisfies(h -> assertThat(h.reason()).contains("partial data").contains("eu-1"));
+  }
+
   private static void expect(PrometheusClient client, MetricsException.Kind kind, String text) {
     assertThatThrownBy(() -> client.query("up", Instant.now()))
         .isInstanceOfSatisfying(MetricsException.class, e -> assertThat(e.kind()).isEqualTo(kind))
