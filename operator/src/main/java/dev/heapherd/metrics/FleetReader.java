@@ -1,5 +1,6 @@
 package dev.heapherd.metrics;
 
+import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.EnumMap;
@@ -28,6 +29,27 @@ public final class FleetReader {
   /** The profile in use. */
   public QueryProfile profile() {
     return profile;
+  }
+
+  /**
+   * Growth of the after-GC live figure between the two halves of the window, per pod: one range
+   * query of two points. A live set still growing (warm-up, a leak) is no steady state to size.
+   */
+  private Map<String, Double> liveGrowth(String selector, long windowSeconds, Instant at)
+      throws MetricsException {
+    long half = windowSeconds / 2;
+    String query = profile.queries(Signal.LIVE_BYTES, selector, half).get(0);
+    Map<String, Double> growth = new HashMap<>();
+    for (Series series :
+        client.queryRange(query, at.minusSeconds(half), at, Duration.ofSeconds(half))) {
+      var points = series.points();
+      if (points.size() == 2 && points.get(0).value() > 0) {
+        growth.put(
+            series.label("namespace") + "/" + series.label("pod"),
+            points.get(1).value() / points.get(0).value() - 1);
+      }
+    }
+    return growth;
   }
 
   /**
@@ -89,6 +111,7 @@ public final class FleetReader {
         }
       }
     }
+    Map<String, Double> growth = liveGrowth(selector, windowSeconds, at);
     List<PodSignals> pods = new ArrayList<>();
     for (var entry : values.entrySet()) {
       String key = entry.getKey();
@@ -101,7 +124,8 @@ public final class FleetReader {
               key.substring(key.indexOf('/') + 1),
               entry.getValue(),
               liveFallback.contains(key),
-              collectors.getOrDefault(key, Set.of())));
+              collectors.getOrDefault(key, Set.of()),
+              growth.getOrDefault(key, Double.NaN)));
     }
     return pods;
   }

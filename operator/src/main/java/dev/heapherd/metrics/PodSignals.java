@@ -13,13 +13,16 @@ import java.util.Set;
  * @param values per signal, where a query answered for this pod
  * @param liveFromFallback true when live bytes came from a later template than the first
  * @param collectorNames GarbageCollectorMXBean names seen for this pod
+ * @param liveGrowth how much the after-GC live figure grew from the window's first half to its
+ *     second, as a fraction; NaN when either half has no such figure
  */
 public record PodSignals(
     String namespace,
     String pod,
     Map<Signal, Double> values,
     boolean liveFromFallback,
-    Set<String> collectorNames) {
+    Set<String> collectorNames,
+    double liveGrowth) {
 
   /** Copies the collections. */
   public PodSignals {

@@ -19,10 +19,12 @@ import java.security.GeneralSecurityException;
 import java.security.KeyStore;
 import java.security.cert.Certificate;
 import java.security.cert.CertificateFactory;
+import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.HashMap;
 import java.util.List;
+import java.util.Locale;
 import java.util.Map;
 import javax.net.ssl.SSLContext;
 import javax.net.ssl.TrustManagerFactory;
@@ -31,6 +33,8 @@ import javax.net.ssl.TrustManagerFactory;
 public final class PrometheusClient {
 
   private static final ObjectMapper JSON = new ObjectMapper();
+
+  private static final double MILLIS_PER_SECOND = 1000;
 
   /** Longest part of an error body quoted in a message. */
   private static final int MAX_QUOTED_CHARS = 200;
@@ -63,12 +67,7 @@ public final class PrometheusClient {
   /** Evaluates {@code promql} at {@code time}. */
   public QueryResult query(String promql, Instant time) throws MetricsException {
     String form =
-        "query="
-            + URLEncoder.encode(promql, StandardCharsets.UTF_8)
-            + "&time="
-            + time.getEpochSecond()
-            + "."
-            + String.format("%03d", time.getNano() / 1_000_000);
+        "query=" + URLEncoder.encode(promql, StandardCharsets.UTF_8) + "&time=" + seconds(time);
     Answer answer = post("api/v1/query", form);
     JsonNode data = answer.data();
     String type = data.path("resultType").asText();
@@ -85,6 +84,46 @@ public final class PrometheusClient {
           "query returned a " + type + ", expected an instant vector: " + promql);
     }
     return new QueryResult(samples, answer.warnings());
+  }
+
+  /**
+   * Evaluates {@code promql} at every {@code step} from {@code start} to {@code end}. Warnings
+   * (partial data) fail the query, as the caller cannot tell which points are missing.
+   */
+  public List<Series> queryRange(String promql, Instant start, Instant end, Duration step)
+      throws MetricsException {
+    String form =
+        "query="
+            + URLEncoder.encode(promql, StandardCharsets.UTF_8)
+            + "&start="
+            + seconds(start)
+            + "&end="
+            + seconds(end)
+            + "&step="
+            + String.format(Locale.ROOT, "%.3f", step.toMillis() / MILLIS_PER_SECOND);
+    Answer answer = post("api/v1/query_range", form);
+    if (!answer.warnings().isEmpty()) {
+      throw new MetricsException(
+          MetricsException.Kind.PARTIAL_DATA,
+          "Prometheus returned partial data: " + String.join("; ", answer.warnings()));
+    }
+    if (!"matrix".equals(answer.data().path("resultType").asText())) {
+      throw new MetricsException(
+          MetricsException.Kind.BAD_RESPONSE, "range query did not return a matrix: " + promql);
+    }
+    List<Series> series = new ArrayList<>();
+    for (JsonNode s : answer.data().path("result")) {
+      List<Series.Point> points = new ArrayList<>();
+      for (JsonNode pair : s.path("values")) {
+        points.add(new Series.Point(pair.path(0).asDouble(), value(pair)));
+      }
+      series.add(new Series(labels(s.path("metric")), points));
+    }
+    return series;
+  }
+
+  private static String seconds(Instant time) {
+    return time.getEpochSecond() + "." + String.format("%03d", time.getNano() / 1_000_000);
   }
 
   /** The {@code data} part of a successful answer and its warnings. */

@@ -4,6 +4,7 @@ import dev.heapherd.input.Snapshot;
 import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.List;
+import java.util.Locale;
 import java.util.Optional;
 import java.util.OptionalDouble;
 import java.util.Set;
@@ -23,6 +24,12 @@ public final class WorkloadEstimator {
 
   /** Scrapes per pod at which a workload with old-generation collections counts as High. */
   static final long HIGH_CONFIDENCE_SAMPLES = 3 * MIN_SAMPLES;
+
+  /**
+   * Growth of the live set between the halves of a window beyond which it is no steady state: a
+   * fifth, well above the few percent after-GC figures move in steady state. Our choice.
+   */
+  static final double MAX_LIVE_GROWTH = 0.2;
 
   /** Pods whose heap limits differ by more than this fraction are mid-rollout: hold. */
   static final double HEAP_LIMIT_SPREAD = 0.01;
@@ -79,6 +86,15 @@ public final class WorkloadEstimator {
         return new Held(
             name,
             "pod " + pod.pod() + " restarted in the window (a counter reset): not in steady state");
+      }
+      if (pod.liveGrowth() > MAX_LIVE_GROWTH) {
+        return new Held(
+            name,
+            String.format(
+                Locale.ROOT,
+                "the live set of pod %s grew %.0f%% within the window: still warming up or leaking",
+                pod.pod(),
+                100 * pod.liveGrowth()));
       }
       for (Signal required :
           List.of(Signal.HEAP_MAX_BYTES, Signal.LIVE_BYTES, Signal.NON_HEAP_BYTES)) {

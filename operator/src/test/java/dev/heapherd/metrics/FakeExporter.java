@@ -27,6 +27,7 @@ final class FakeExporter implements AutoCloseable {
 
   private final HttpServer server;
   private volatile Values values;
+  private volatile double liveGrowthBytesPerSecond;
   private volatile long startNanos = System.nanoTime();
 
   private FakeExporter(Values values) throws IOException {
@@ -57,6 +58,11 @@ final class FakeExporter implements AutoCloseable {
     values = next;
   }
 
+  /** Makes the live figure grow with time, as a warming cache or a leak would. */
+  void growLive(double bytesPerSecond) {
+    liveGrowthBytesPerSecond = bytesPerSecond;
+  }
+
   /** Starts the counters from zero again, as a restarted JVM would. */
   void restart() {
     startNanos = System.nanoTime();
@@ -75,7 +81,7 @@ final class FakeExporter implements AutoCloseable {
         line("jvm_gc_pause_seconds_sum{" + young + "}", v.youngGcSecondsPerSecond() * seconds),
         line("jvm_gc_pause_seconds_count{" + old + "}", seconds / 10),
         line("jvm_gc_pause_seconds_sum{" + old + "}", v.oldGcSecondsPerSecond() * seconds),
-        line("jvm_gc_live_data_size_bytes", v.liveBytes()),
+        line("jvm_gc_live_data_size_bytes", v.liveBytes() + liveGrowthBytesPerSecond * seconds),
         line("jvm_memory_max_bytes{area=\"heap\",id=\"G1 Old Gen\"}", v.heapMaxBytes()),
         line("jvm_memory_max_bytes{area=\"heap\",id=\"G1 Eden Space\"}", -1),
         line("jvm_memory_committed_bytes{area=\"nonheap\",id=\"Metaspace\"}", v.nonHeapBytes()),

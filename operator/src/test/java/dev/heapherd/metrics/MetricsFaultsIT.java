@@ -25,6 +25,9 @@ class MetricsFaultsIT {
   /** Window of the test: twenty one-second scrapes. */
   private static final long WINDOW_SECONDS = 20;
 
+  /** Live growth of the "growing" pod: its live figure doubles within the window. */
+  private static final double GROWTH_BYTES_PER_SECOND = 20e6;
+
   private static final FakeExporter.Values HEALTHY =
       new FakeExporter.Values(300e6, 1024e6, 80e6, 0.004, 0.012, 2e6, 50e6);
 
@@ -36,24 +39,28 @@ class MetricsFaultsIT {
             FakeExporter.start(
                 new FakeExporter.Values(Double.NaN, 1024e6, 80e6, 0.004, 0.012, 2e6, 50e6));
         FakeExporter restarted = FakeExporter.start(HEALTHY);
-        FakeExporter vanishing = FakeExporter.start(HEALTHY)) {
+        FakeExporter vanishing = FakeExporter.start(HEALTHY);
+        FakeExporter growing = FakeExporter.start(HEALTHY)) {
+      growing.growLive(GROWTH_BYTES_PER_SECOND);
       var all =
           List.of(
               target(healthy, "healthy-7d9f8c6b5-x2x7q"),
               target(nan, "nan-7d9f8c6b5-q4w8z"),
               target(restarted, "restarted-0"),
-              target(vanishing, "vanishing-5c8d7b9f4-mm2zp"));
+              target(vanishing, "vanishing-5c8d7b9f4-mm2zp"),
+              target(growing, "growing-0"));
       PrometheusClient client = PrometheusClient.connect(PrometheusEndpoint.of(prometheus.uri()));
       prometheus.setTargets(all);
       awaitSamples(client, "vanishing-5c8d7b9f4-mm2zp", 4);
-      prometheus.setTargets(all.subList(0, 3));
+      prometheus.setTargets(List.of(all.get(0), all.get(1), all.get(2), all.get(4)));
       awaitSamples(client, "restarted-0", WINDOW_SECONDS / 2);
       restarted.restart();
       awaitSamples(client, "healthy-7d9f8c6b5-x2x7q", WINDOW_SECONDS);
 
       SnapshotBuilder builder =
           new SnapshotBuilder(new FleetReader(client, QueryProfiles.MICROMETER));
-      List<String> expected = List.of("healthy", "nan", "restarted", "vanishing", "ghost");
+      List<String> expected =
+          List.of("healthy", "nan", "restarted", "vanishing", "growing", "ghost");
       Snapshot snapshot = builder.build(NAMESPACE, WINDOW_SECONDS, Instant.now(), expected);
 
       assertThat(snapshot.workloads())
@@ -85,6 +92,7 @@ class MetricsFaultsIT {
       assertThat(held.get("restarted")).contains("restarted");
       assertThat(held.get("vanishing")).contains("samples");
       assertThat(held.get("ghost")).contains("no pod");
+      assertThat(held.get("growing")).contains("warming up or leaking");
 
       // The same pods grouped by a label instead of by name.
       Snapshot byLabel =

@@ -21,7 +21,7 @@ class WorkloadEstimatorTest {
     v.put(Signal.YOUNG_GC_SECONDS_PER_SECOND, 0.01);
     v.put(Signal.OLD_GC_SECONDS_PER_SECOND, 0.002);
     v.put(Signal.SAMPLE_COUNT, 60.0);
-    return new PodSignals("shop", name, v, false, gcs);
+    return new PodSignals("shop", name, v, false, gcs, 0.01);
   }
 
   private static final Set<String> G1 = Set.of("G1 Young Generation", "G1 Old Generation");
@@ -69,9 +69,24 @@ class WorkloadEstimatorTest {
     v.put(Signal.SAMPLE_COUNT, 3.0);
     assertThat(
             WorkloadEstimator.estimate(
-                "orders", "Deployment", List.of(new PodSignals("shop", "a", v, false, G1))))
+                "orders", "Deployment", List.of(new PodSignals("shop", "a", v, false, G1, 0))))
         .isInstanceOfSatisfying(
             WorkloadEstimator.Held.class, h -> assertThat(h.reason()).contains("3 samples"));
+  }
+
+  @Test
+  void holdsAWorkloadWhoseLiveSetIsStillGrowing() {
+    PodSignals steady = pod("a", 1e8, 512e6, G1);
+    PodSignals growing =
+        new PodSignals(
+            "shop", "b", steady.values(), false, G1, WorkloadEstimator.MAX_LIVE_GROWTH + 0.1);
+    assertThat(WorkloadEstimator.estimate("orders", "Deployment", List.of(steady, growing)))
+        .isInstanceOfSatisfying(
+            WorkloadEstimator.Held.class,
+            h ->
+                assertThat(h.reason())
+                    .contains("pod b grew 30%")
+                    .contains("warming up or leaking"));
   }
 
   @Test
