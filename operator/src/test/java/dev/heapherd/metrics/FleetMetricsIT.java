@@ -52,6 +52,12 @@ class FleetMetricsIT {
    */
   private static final double GC_TOLERANCE = 0.25;
 
+  /**
+   * A collection at either edge of the window may fall in one span and not the other: two pauses of
+   * at most 25 ms each at these heap sizes (the workloads' GC logs show 5 to 20 ms).
+   */
+  private static final double EDGE_PAUSE_SECONDS = 0.05;
+
   private static final Map<String, long[]> FLEET = new LinkedHashMap<>();
 
   static {
@@ -172,7 +178,7 @@ class FleetMetricsIT {
         soft.assertThat(jdkGc).as(name + " GC time per the JDK").isPositive();
         soft.assertThat(w.gcSecondsPerSecond())
             .as(name + " GC seconds per second against GarbageCollectorMXBean")
-            .isCloseTo(jdkGc, within(jdkGc * GC_TOLERANCE));
+            .isCloseTo(jdkGc, within(jdkGc * GC_TOLERANCE + EDGE_PAUSE_SECONDS / spanSeconds));
         i++;
       }
       soft.assertAll();

@@ -129,8 +129,12 @@ final class PrometheusServer implements AutoCloseable {
   }
 
   @Override
-  public void close() throws InterruptedException {
-    stop();
+  public void close() {
+    try {
+      stop();
+    } catch (InterruptedException e) {
+      Thread.currentThread().interrupt();
+    }
   }
 
   private static int freePort() throws IOException {

@@ -129,10 +129,15 @@ final class WorkloadProcess implements AutoCloseable {
   }
 
   @Override
-  public void close() throws InterruptedException {
+  public void close() {
     process.destroy();
-    if (!process.waitFor(30, TimeUnit.SECONDS)) {
-      process.destroyForcibly().waitFor();
+    try {
+      if (!process.waitFor(30, TimeUnit.SECONDS)) {
+        process.destroyForcibly().waitFor();
+      }
+    } catch (InterruptedException e) {
+      process.destroyForcibly();
+      Thread.currentThread().interrupt();
     }
   }
 
