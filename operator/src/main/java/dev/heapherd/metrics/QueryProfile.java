@@ -13,9 +13,10 @@ import java.util.Map;
  * labelled {@code namespace} and {@code pod}.
  *
  * @param name the profile's name in pool files and on the command line
+ * @param gcTimeSource what the GC time figures measure, said in every estimate's notes
  * @param templates per signal, in order of preference
  */
-public record QueryProfile(String name, Map<Signal, List<String>> templates) {
+public record QueryProfile(String name, String gcTimeSource, Map<Signal, List<String>> templates) {
 
   /** Copies the map and checks that every signal the estimator needs has a template. */
   public QueryProfile {
@@ -31,7 +32,7 @@ public record QueryProfile(String name, Map<Signal, List<String>> templates) {
   public QueryProfile withOverride(Signal signal, String promql) {
     Map<Signal, List<String>> changed = new EnumMap<>(templates);
     changed.put(signal, List.of(promql));
-    return new QueryProfile(name, changed);
+    return new QueryProfile(name, gcTimeSource, changed);
   }
 
   /** The templates of {@code signal} with the placeholders filled in. */

@@ -40,6 +40,7 @@ public final class QueryProfiles {
   public static final QueryProfile MICROMETER =
       new QueryProfile(
           "micrometer",
+          "GC time: pause durations plus concurrent-phase durations where exported (wall time)",
           Map.of(
               Signal.LIVE_BYTES,
               List.of(
@@ -101,6 +102,8 @@ public final class QueryProfiles {
   public static final QueryProfile CLIENT_JAVA =
       new QueryProfile(
           "client-java",
+          "GC time: GarbageCollectorMXBean collection times (pauses; concurrent cycles where the"
+              + " JVM has a bean for them)",
           Map.of(
               Signal.LIVE_BYTES,
               List.of(
@@ -177,6 +180,8 @@ public final class QueryProfiles {
   public static final QueryProfile OTEL =
       new QueryProfile(
           "otel",
+          "GC time: GC notification durations (pauses; concurrent cycles where the JVM reports"
+              + " them)",
           Map.of(
               Signal.LIVE_BYTES,
               List.of(

@@ -79,7 +79,9 @@ public final class SnapshotBuilder {
         held.add(new Snapshot.Held(name, "both a Deployment and a StatefulSet have this name"));
         continue;
       }
-      var estimate = WorkloadEstimator.estimate(name, entry.getKey().kind(), entry.getValue());
+      var estimate =
+          WorkloadEstimator.estimate(
+              name, entry.getKey().kind(), entry.getValue(), reader.profile().gcTimeSource());
       if (estimate instanceof WorkloadEstimator.Measured m) {
         measured.add(m.workload());
       } else {

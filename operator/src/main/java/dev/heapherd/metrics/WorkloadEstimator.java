@@ -53,8 +53,13 @@ public final class WorkloadEstimator {
 
   private WorkloadEstimator() {}
 
-  /** Estimates workload {@code name} of {@code kind} from its pods. */
-  public static Estimate estimate(String name, String kind, List<PodSignals> pods) {
+  /**
+   * Estimates workload {@code name} of {@code kind} from its pods.
+   *
+   * @param gcTimeSource what the GC time figures measure, added to the notes
+   */
+  public static Estimate estimate(
+      String name, String kind, List<PodSignals> pods, String gcTimeSource) {
     if (pods.isEmpty()) {
       return new Held(name, "no pod of it was scraped in the window");
     }
@@ -122,6 +127,7 @@ public final class WorkloadEstimator {
     long samples = (long) values(pods, Signal.SAMPLE_COUNT)[0];
     boolean liveFallback = pods.stream().anyMatch(PodSignals::liveFromFallback);
     List<String> notes = new ArrayList<>();
+    notes.add(gcTimeSource);
     if (liveFallback) {
       notes.add(
           "live bytes from the old pool's lowest occupancy: no after-GC figure in the window");

@@ -24,6 +24,8 @@ class WorkloadEstimatorTest {
     return new PodSignals("shop", name, v, false, gcs, 0.01);
   }
 
+  private static final String GC_SOURCE = "GC time: pause durations";
+
   private static final Set<String> G1 = Set.of("G1 Young Generation", "G1 Old Generation");
 
   @Test
@@ -33,9 +35,8 @@ class WorkloadEstimatorTest {
             "orders",
             "Deployment",
             List.of(
-                pod("a", 100e6, 512e6, G1),
-                pod("b", 300e6, 512e6, G1),
-                pod("c", 200e6, 512e6, G1)));
+                pod("a", 100e6, 512e6, G1), pod("b", 300e6, 512e6, G1), pod("c", 200e6, 512e6, G1)),
+            GC_SOURCE);
     assertThat(estimate).isInstanceOf(WorkloadEstimator.Measured.class);
     var w = ((WorkloadEstimator.Measured) estimate).workload();
     assertThat(w.liveBytes()).isEqualTo(200_000_000L);
@@ -45,6 +46,7 @@ class WorkloadEstimatorTest {
         .isEqualTo(0.012, org.assertj.core.api.Assertions.within(1e-12));
     assertThat(w.youngGcSecondsPerSecond()).isEqualTo(0.01);
     assertThat(w.evidence().confidence()).isEqualTo("High");
+    assertThat(w.evidence().notes()).contains(GC_SOURCE);
   }
 
   @Test
@@ -53,14 +55,16 @@ class WorkloadEstimatorTest {
             WorkloadEstimator.estimate(
                 "orders",
                 "Deployment",
-                List.of(pod("a", 1e8, 512e6, G1), pod("b", 1e8, 768e6, G1))))
+                List.of(pod("a", 1e8, 512e6, G1), pod("b", 1e8, 768e6, G1)),
+                GC_SOURCE))
         .isInstanceOfSatisfying(
             WorkloadEstimator.Held.class, h -> assertThat(h.reason()).contains("rollout"));
     assertThat(
             WorkloadEstimator.estimate(
                 "orders",
                 "Deployment",
-                List.of(pod("a", 1e8, 512e6, G1), pod("b", 1e8, 512e6, Set.of("PS Scavenge")))))
+                List.of(pod("a", 1e8, 512e6, G1), pod("b", 1e8, 512e6, Set.of("PS Scavenge"))),
+                GC_SOURCE))
         .isInstanceOfSatisfying(
             WorkloadEstimator.Held.class,
             h -> assertThat(h.reason()).contains("collector unknown"));
@@ -69,7 +73,10 @@ class WorkloadEstimatorTest {
     v.put(Signal.SAMPLE_COUNT, 3.0);
     assertThat(
             WorkloadEstimator.estimate(
-                "orders", "Deployment", List.of(new PodSignals("shop", "a", v, false, G1, 0))))
+                "orders",
+                "Deployment",
+                List.of(new PodSignals("shop", "a", v, false, G1, 0)),
+                GC_SOURCE))
         .isInstanceOfSatisfying(
             WorkloadEstimator.Held.class, h -> assertThat(h.reason()).contains("3 samples"));
   }
@@ -80,7 +87,8 @@ class WorkloadEstimatorTest {
     PodSignals growing =
         new PodSignals(
             "shop", "b", steady.values(), false, G1, WorkloadEstimator.MAX_LIVE_GROWTH + 0.1);
-    assertThat(WorkloadEstimator.estimate("orders", "Deployment", List.of(steady, growing)))
+    assertThat(
+            WorkloadEstimator.estimate("orders", "Deployment", List.of(steady, growing), GC_SOURCE))
         .isInstanceOfSatisfying(
             WorkloadEstimator.Held.class,
             h ->
