@@ -27,7 +27,7 @@ public final class QueryProfiles {
 
   /** Scrapes per pod in the window, from Prometheus' own up series: the same for every profile. */
   private static final List<String> SCRAPES =
-      List.of("sum " + BY_POD + " (count_over_time(up{${selector}}[${window}]))");
+      List.of(perPod("sum", "count_over_time(", series("up")));
 
   /**
    * Keeps an after-GC figure only for pods whose old generation was collected in the window: the
@@ -35,6 +35,8 @@ public final class QueryProfiles {
    */
   private static final String OLD_CYCLE_IN_WINDOW =
       " and on (namespace, pod) (sum by (namespace, pod) (increase(%s[${window}])) > 0)";
+
+  private static final String MINOR = "\"end of minor GC\"";
 
   /** Micrometer's JVM binders exported through its Prometheus registry. */
   public static final QueryProfile MICROMETER =
@@ -46,57 +48,53 @@ public final class QueryProfiles {
               List.of(
                   // Updated by Micrometer only after old-generation and concurrent cycles; zero
                   // until the first one, hence "!= 0" (which keeps NaN, so it is reported).
-                  "max "
-                      + BY_POD
-                      + " (quantile_over_time(0.5, jvm_gc_live_data_size_bytes{${selector}}[${window}])) != 0"
-                      + OLD_CYCLE_IN_WINDOW.formatted(
-                          "{__name__=~\"jvm_gc_pause_seconds_count|jvm_gc_concurrent_phase_time_seconds_count\","
-                              + "${selector},action!=\"end of minor GC\"}"),
-                  "sum "
-                      + BY_POD
-                      + " (min_over_time(jvm_memory_used_bytes{${selector},area=\"heap\",id=~\""
-                      + OLD_POOLS
-                      + "\"}[${window}]))"),
+                  afterGc(
+                      perPod(
+                          "max", "quantile_over_time(0.5, ", series("jvm_gc_live_data_size_bytes")),
+                      series(
+                          "__name__=~\"jvm_gc_pause_seconds_count|jvm_gc_concurrent_phase_time_seconds_count\"",
+                          "action!=" + MINOR)),
+                  perPod(
+                      "sum",
+                      "min_over_time(",
+                      series(
+                          "jvm_memory_used_bytes", "area=\"heap\"", "id=~\"" + OLD_POOLS + "\""))),
               Signal.HEAP_MAX_BYTES,
               List.of(
                   "sum "
                       + BY_POD
-                      + " (max_over_time(jvm_memory_max_bytes{${selector},area=\"heap\"}[${window}]) > 0)"),
+                      + " (max_over_time("
+                      + series("jvm_memory_max_bytes", "area=\"heap\"")
+                      + "[${window}]) > 0)"),
               Signal.YOUNG_GC_SECONDS_PER_SECOND,
               List.of(
-                  "sum "
-                      + BY_POD
-                      + " (rate(jvm_gc_pause_seconds_sum{${selector},action=\"end of minor GC\"}[${window}]))"),
+                  perPod("sum", "rate(", series("jvm_gc_pause_seconds_sum", "action=" + MINOR))),
               Signal.OLD_GC_SECONDS_PER_SECOND,
               List.of(
-                  "sum "
-                      + BY_POD
-                      + " (rate({__name__=~\"jvm_gc_pause_seconds_sum|jvm_gc_concurrent_phase_time_seconds_sum\","
-                      + "${selector},action!=\"end of minor GC\"}[${window}]))"),
+                  perPod(
+                      "sum",
+                      "rate(",
+                      series(
+                          "__name__=~\"jvm_gc_pause_seconds_sum|jvm_gc_concurrent_phase_time_seconds_sum\"",
+                          "action!=" + MINOR))),
               Signal.PROMOTION_BYTES_PER_SECOND,
-              List.of(
-                  "sum "
-                      + BY_POD
-                      + " (rate(jvm_gc_memory_promoted_bytes_total{${selector}}[${window}]))"),
+              List.of(perPod("sum", "rate(", series("jvm_gc_memory_promoted_bytes_total"))),
               Signal.NON_HEAP_BYTES,
               List.of(
                   // Committed non-heap pools plus direct and mapped buffers, each at its
                   // high-water.
-                  "sum "
-                      + BY_POD
-                      + " (max_over_time({__name__=~\"jvm_memory_committed_bytes|jvm_buffer_memory_used_bytes\","
-                      + "${selector},area!=\"heap\"}[${window}]))"),
+                  perPod(
+                      "sum",
+                      "max_over_time(",
+                      series(
+                          "__name__=~\"jvm_memory_committed_bytes|jvm_buffer_memory_used_bytes\"",
+                          "area!=\"heap\""))),
               Signal.COLLECTOR_NAMES,
-              List.of(
-                  "count by (namespace, pod, collector) (label_replace("
-                      + "jvm_gc_pause_seconds_count{${selector}}, \"collector\", \"$1\", \"gc\", \"(.*)\"))"),
+              collectors("jvm_gc_pause_seconds_count", "gc"),
               Signal.SAMPLE_COUNT,
               SCRAPES,
               Signal.RESTARTS,
-              List.of(
-                  "sum "
-                      + BY_POD
-                      + " (resets(jvm_gc_memory_allocated_bytes_total{${selector}}[${window}]))")));
+              List.of(perPod("sum", "resets(", series("jvm_gc_memory_allocated_bytes_total")))));
 
   /** Prometheus client_java's JVM instrumentation (JvmMetrics) with its process metrics. */
   public static final QueryProfile CLIENT_JAVA =
@@ -109,69 +107,61 @@ public final class QueryProfiles {
               List.of(
                   // MemoryPoolMXBean collection usage: zero until that pool is collected, which
                   // for G1 Old Gen means a full GC; hence "!= 0" and the occupancy fallback.
-                  "max "
-                      + BY_POD
-                      + " (min_over_time(jvm_memory_pool_collection_used_bytes{${selector},pool=~\""
-                      + OLD_POOLS
-                      + "\"}[${window}])) != 0"
-                      + OLD_CYCLE_IN_WINDOW.formatted(
-                          "jvm_gc_collection_seconds_count{${selector},gc=~\""
-                              + OLD_COLLECTORS
-                              + "\"}"),
-                  "sum "
-                      + BY_POD
-                      + " (min_over_time(jvm_memory_pool_used_bytes{${selector},pool=~\""
-                      + OLD_POOLS
-                      + "\"}[${window}]))"),
+                  afterGc(
+                      perPod(
+                          "max",
+                          "min_over_time(",
+                          series(
+                              "jvm_memory_pool_collection_used_bytes",
+                              "pool=~\"" + OLD_POOLS + "\"")),
+                      series("jvm_gc_collection_seconds_count", "gc=~\"" + OLD_COLLECTORS + "\"")),
+                  perPod(
+                      "sum",
+                      "min_over_time(",
+                      series("jvm_memory_pool_used_bytes", "pool=~\"" + OLD_POOLS + "\""))),
               Signal.HEAP_MAX_BYTES,
               List.of(
-                  "max "
-                      + BY_POD
-                      + " (max_over_time(jvm_memory_max_bytes{${selector},area=\"heap\"}[${window}]))"),
+                  perPod("max", "max_over_time(", series("jvm_memory_max_bytes", "area=\"heap\""))),
               Signal.YOUNG_GC_SECONDS_PER_SECOND,
               List.of(
-                  "sum "
-                      + BY_POD
-                      + " (rate(jvm_gc_collection_seconds_sum{${selector},gc!~\""
-                      + OLD_COLLECTORS
-                      + "\"}[${window}]))"),
+                  perPod(
+                      "sum",
+                      "rate(",
+                      series("jvm_gc_collection_seconds_sum", "gc!~\"" + OLD_COLLECTORS + "\""))),
               Signal.OLD_GC_SECONDS_PER_SECOND,
               List.of(
-                  "sum "
-                      + BY_POD
-                      + " (rate(jvm_gc_collection_seconds_sum{${selector},gc=~\""
-                      + OLD_COLLECTORS
-                      + "\"}[${window}]))"),
+                  perPod(
+                      "sum",
+                      "rate(",
+                      series("jvm_gc_collection_seconds_sum", "gc=~\"" + OLD_COLLECTORS + "\""))),
               Signal.PROMOTION_BYTES_PER_SECOND,
               List.of(
                   // Bytes the library saw arrive in the old pool across collections: promotion.
-                  "sum "
-                      + BY_POD
-                      + " (rate(jvm_memory_pool_allocated_bytes_total{${selector},pool=~\""
-                      + OLD_POOLS
-                      + "\"}[${window}]))"),
+                  perPod(
+                      "sum",
+                      "rate(",
+                      series(
+                          "jvm_memory_pool_allocated_bytes_total", "pool=~\"" + OLD_POOLS + "\""))),
               Signal.NON_HEAP_BYTES,
               List.of(
                   // High-water of resident memory beyond the committed heap, per scrape.
                   "max "
                       + BY_POD
-                      + " (max_over_time((process_resident_memory_bytes{${selector}}"
-                      + " - on (namespace, pod) jvm_memory_committed_bytes{${selector},area=\"heap\"})"
-                      + "[${window}:])) > 0",
-                  "sum "
-                      + BY_POD
-                      + " (max_over_time(jvm_memory_committed_bytes{${selector},area=\"nonheap\"}[${window}]))"),
+                      + " (max_over_time(("
+                      + series("process_resident_memory_bytes")
+                      + " - on (namespace, pod) "
+                      + series("jvm_memory_committed_bytes", "area=\"heap\"")
+                      + ")[${window}:])) > 0",
+                  perPod(
+                      "sum",
+                      "max_over_time(",
+                      series("jvm_memory_committed_bytes", "area=\"nonheap\""))),
               Signal.COLLECTOR_NAMES,
-              List.of(
-                  "count by (namespace, pod, collector) (label_replace("
-                      + "jvm_gc_collection_seconds_count{${selector}}, \"collector\", \"$1\", \"gc\", \"(.*)\"))"),
+              collectors("jvm_gc_collection_seconds_count", "gc"),
               Signal.SAMPLE_COUNT,
               SCRAPES,
               Signal.RESTARTS,
-              List.of(
-                  "sum "
-                      + BY_POD
-                      + " (changes(process_start_time_seconds{${selector}}[${window}]))")));
+              List.of(perPod("sum", "changes(", series("process_start_time_seconds")))));
 
   /**
    * The OpenTelemetry Java agent's runtime metrics through its Prometheus exporter. The agent
@@ -185,50 +175,49 @@ public final class QueryProfiles {
           Map.of(
               Signal.LIVE_BYTES,
               List.of(
-                  "max "
-                      + BY_POD
-                      + " (min_over_time(jvm_memory_used_after_last_gc_bytes{${selector},"
-                      + "jvm_memory_pool_name=~\""
-                      + OLD_POOLS
-                      + "\"}[${window}])) != 0"
-                      + OLD_CYCLE_IN_WINDOW.formatted(
-                          "jvm_gc_duration_seconds_count{${selector},jvm_gc_action!=\"end of minor GC\"}"),
-                  "sum "
-                      + BY_POD
-                      + " (min_over_time(jvm_memory_used_bytes{${selector},jvm_memory_pool_name=~\""
-                      + OLD_POOLS
-                      + "\"}[${window}]))"),
+                  afterGc(
+                      perPod(
+                          "max",
+                          "min_over_time(",
+                          series(
+                              "jvm_memory_used_after_last_gc_bytes",
+                              "jvm_memory_pool_name=~\"" + OLD_POOLS + "\"")),
+                      series("jvm_gc_duration_seconds_count", "jvm_gc_action!=" + MINOR)),
+                  perPod(
+                      "sum",
+                      "min_over_time(",
+                      series(
+                          "jvm_memory_used_bytes", "jvm_memory_pool_name=~\"" + OLD_POOLS + "\""))),
               Signal.HEAP_MAX_BYTES,
               List.of(
-                  "sum "
-                      + BY_POD
-                      + " (max_over_time(jvm_memory_limit_bytes{${selector},jvm_memory_type=\"heap\"}[${window}]))"),
+                  perPod(
+                      "sum",
+                      "max_over_time(",
+                      series("jvm_memory_limit_bytes", "jvm_memory_type=\"heap\""))),
               Signal.YOUNG_GC_SECONDS_PER_SECOND,
               List.of(
-                  "sum "
-                      + BY_POD
-                      + " (rate(jvm_gc_duration_seconds_sum{${selector},jvm_gc_action=\"end of minor GC\"}[${window}]))"),
+                  perPod(
+                      "sum",
+                      "rate(",
+                      series("jvm_gc_duration_seconds_sum", "jvm_gc_action=" + MINOR))),
               Signal.OLD_GC_SECONDS_PER_SECOND,
               List.of(
-                  "sum "
-                      + BY_POD
-                      + " (rate(jvm_gc_duration_seconds_sum{${selector},jvm_gc_action!=\"end of minor GC\"}[${window}]))"),
+                  perPod(
+                      "sum",
+                      "rate(",
+                      series("jvm_gc_duration_seconds_sum", "jvm_gc_action!=" + MINOR))),
               Signal.NON_HEAP_BYTES,
               List.of(
-                  "sum "
-                      + BY_POD
-                      + " (max_over_time(jvm_memory_committed_bytes{${selector},jvm_memory_type=\"non_heap\"}[${window}]))"),
+                  perPod(
+                      "sum",
+                      "max_over_time(",
+                      series("jvm_memory_committed_bytes", "jvm_memory_type=\"non_heap\""))),
               Signal.COLLECTOR_NAMES,
-              List.of(
-                  "count by (namespace, pod, collector) (label_replace("
-                      + "jvm_gc_duration_seconds_count{${selector}}, \"collector\", \"$1\", \"jvm_gc_name\", \"(.*)\"))"),
+              collectors("jvm_gc_duration_seconds_count", "jvm_gc_name"),
               Signal.SAMPLE_COUNT,
               SCRAPES,
               Signal.RESTARTS,
-              List.of(
-                  "sum "
-                      + BY_POD
-                      + " (resets(jvm_cpu_time_seconds_total{${selector}}[${window}]))")));
+              List.of(perPod("sum", "resets(", series("jvm_cpu_time_seconds_total")))));
 
   private QueryProfiles() {}
 
@@ -240,5 +229,42 @@ public final class QueryProfiles {
   /** The built-in profile called {@code name}. */
   public static Optional<QueryProfile> named(String name) {
     return all().stream().filter(p -> p.name().equals(name)).findFirst();
+  }
+
+  /**
+   * {@code metric{${selector},matchers...}}; a metric given as a {@code __name__} matcher goes
+   * inside the braces.
+   */
+  private static String series(String metric, String... matchers) {
+    StringBuilder out = new StringBuilder();
+    if (metric.startsWith("__name__")) {
+      out.append('{').append(metric).append(",${selector}");
+    } else {
+      out.append(metric).append("{${selector}");
+    }
+    for (String matcher : matchers) {
+      out.append(',').append(matcher);
+    }
+    return out.append('}').toString();
+  }
+
+  /** {@code aggregation by (namespace, pod) (call series[${window}]))}: one series per pod. */
+  private static String perPod(String aggregation, String call, String series) {
+    return aggregation + " " + BY_POD + " (" + call + series + "[${window}]))";
+  }
+
+  /** An after-GC figure, kept only where it is set and fresh (see {@link #OLD_CYCLE_IN_WINDOW}). */
+  private static String afterGc(String figure, String oldCycles) {
+    return figure + " != 0" + OLD_CYCLE_IN_WINDOW.formatted(oldCycles);
+  }
+
+  /** One series per pod and collector, named by {@code label} of {@code metric}. */
+  private static List<String> collectors(String metric, String label) {
+    return List.of(
+        "count by (namespace, pod, collector) (label_replace("
+            + series(metric)
+            + ", \"collector\", \"$1\", \""
+            + label
+            + "\", \"(.*)\"))");
   }
 }
