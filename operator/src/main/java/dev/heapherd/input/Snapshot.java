@@ -20,8 +20,19 @@ public record Snapshot(
     held = List.copyOf(held);
   }
 
-  /** A workload that was found but not measured well enough to plan: it keeps its sizes. */
-  public record Held(String name, String reason) {}
+  /**
+   * A workload that was found but not measured well enough to plan: it keeps its sizes.
+   *
+   * @param name the workload
+   * @param reason why it is held
+   * @param memoryBytes what its containers use now (replicas x memory limit), 0 when not known
+   */
+  public record Held(String name, String reason, long memoryBytes) {
+    /** A held workload whose memory is not known. */
+    public Held(String name, String reason) {
+      this(name, reason, 0);
+    }
+  }
 
   /**
    * How much to trust one workload's numbers.

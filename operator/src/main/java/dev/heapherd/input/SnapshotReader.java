@@ -75,12 +75,14 @@ public final class SnapshotReader {
     List<Snapshot.Held> held = new ArrayList<>();
     if (root.optional("held").isPresent()) {
       for (Field item : root.required("held").list()) {
-        item.allowOnly(Set.of("name", "reason"));
+        item.allowOnly(Set.of("name", "reason", "memoryBytes"));
         String name = item.required("name").objectName();
         if (!names.add(name)) {
           throw item.required("name").error("duplicate workload name \"" + name + "\"");
         }
-        held.add(new Snapshot.Held(name, item.required("reason").text()));
+        Long memory = item.nonNegativeBytesOrNull("memoryBytes");
+        held.add(
+            new Snapshot.Held(name, item.required("reason").text(), memory == null ? 0 : memory));
       }
     }
     if (workloads.isEmpty() && held.isEmpty()) {

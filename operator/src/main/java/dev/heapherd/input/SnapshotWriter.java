@@ -22,7 +22,11 @@ public final class SnapshotWriter {
       long windowSeconds,
       String source,
       List<Entry> workloads,
-      List<Snapshot.Held> held) {}
+      List<HeldEntry> held) {}
+
+  /** One held workload; an unknown memory figure is left out. */
+  @JsonInclude(JsonInclude.Include.NON_NULL)
+  record HeldEntry(String name, String reason, Long memoryBytes) {}
 
   /** One workload; absent optional values are left out. */
   @JsonInclude(JsonInclude.Include.NON_EMPTY)
@@ -79,7 +83,12 @@ public final class SnapshotWriter {
               snapshot.windowSeconds(),
               source,
               entries,
-              snapshot.held()));
+              snapshot.held().stream()
+                  .map(
+                      h ->
+                          new HeldEntry(
+                              h.name(), h.reason(), h.memoryBytes() > 0 ? h.memoryBytes() : null))
+                  .toList()));
     } catch (JsonProcessingException e) {
       // Records of strings and numbers always serialise; reaching here is a defect of ours.
       throw new IllegalStateException(e);

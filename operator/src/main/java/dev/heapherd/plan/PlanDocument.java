@@ -25,6 +25,7 @@ public record PlanDocument(
     boolean feasible,
     long minimumBudgetBytes,
     long usedBytes,
+    long heldMemoryBytes,
     double level,
     Forecast predictedGcSecondsPerHour,
     List<WorkloadEntry> workloads,
@@ -72,6 +73,8 @@ public record PlanDocument(
 
   /** Builds the document from a plan and its inputs. */
   public static PlanDocument of(PoolFile pool, Snapshot snapshot, PoolPlan plan) {
+    // Held workloads keep their containers: the pool's figures include what they use.
+    long held = Planner.heldMemoryBytes(snapshot);
     List<WorkloadEntry> entries = new ArrayList<>();
     for (int i = 0; i < plan.workloads().size(); i++) {
       entries.add(entry(plan.workloads().get(i), snapshot.workloads().get(i).evidence()));
@@ -82,10 +85,11 @@ public record PlanDocument(
         plan.objective() instanceof Objective.Budget ? "budget" : "prices",
         snapshot.capturedAt().toString(),
         snapshot.windowSeconds(),
-        plan.budgetBytes(),
+        plan.budgetBytes() + held,
         plan.feasible(),
-        plan.minimumBudgetBytes(),
-        plan.usedBytes(),
+        plan.minimumBudgetBytes() + held,
+        plan.usedBytes() + held,
+        held,
         plan.level(),
         Forecast.of(plan.totalGcSecondsPerHour()),
         entries,

@@ -95,9 +95,9 @@ public final class PlanTable {
           .append(h.reason())
           .append('\n');
     }
-    if (!doc.held().isEmpty()) {
-      out.append("The budget above is divided among measured workloads only: make sure it leaves")
-          .append(" room for the held ones.\n");
+    if (doc.held().stream().anyMatch(h -> h.memoryBytes() == 0)) {
+      out.append("Some held workloads' memory is unknown and not counted above: make sure the")
+          .append(" budget leaves room for them.\n");
     }
     out.append("Binding constraints: ")
         .append(binding.isEmpty() ? "none" : String.join(", ", binding))

@@ -3,6 +3,7 @@ package dev.heapherd.plan;
 import dev.heapherd.engine.Allocator;
 import dev.heapherd.engine.GcConstants;
 import dev.heapherd.engine.GcModel;
+import dev.heapherd.engine.Objective;
 import dev.heapherd.engine.PoolPlan;
 import dev.heapherd.engine.Workload;
 import dev.heapherd.input.InputException;
@@ -50,7 +51,7 @@ public final class Planner {
                   .collect(Collectors.joining(", ")));
     }
     try {
-      return Allocator.plan(workloads(pool, snapshot), pool.objective());
+      return Allocator.plan(workloads(pool, snapshot), withoutHeld(pool.objective(), snapshot));
     } catch (IllegalArgumentException e) {
       // Inputs were validated field by field; what is left is the pool as a whole.
       throw new InputException(
@@ -58,6 +59,20 @@ public final class Planner {
           "spec",
           e.getMessage() + "; check replicas and sizes in " + snapshotFileName);
     }
+  }
+
+  /** Memory the held workloads' containers use now, as far as the snapshot knows it. */
+  public static long heldMemoryBytes(Snapshot snapshot) {
+    return snapshot.held().stream().mapToLong(Snapshot.Held::memoryBytes).sum();
+  }
+
+  /** A budget less what the held workloads keep: they are not resized, but they still use it. */
+  private static Objective withoutHeld(Objective objective, Snapshot snapshot) {
+    if (objective instanceof Objective.Budget budget) {
+      // At least one byte, so an exhausted budget plans as infeasible rather than failing.
+      return new Objective.Budget(Math.max(1, budget.bytes() - heldMemoryBytes(snapshot)));
+    }
+    return objective;
   }
 
   /** The engine's view of every measured workload with the pool's settings applied. */
