@@ -223,7 +223,7 @@ class GridSearchTest {
     }
     assertThat(spent).as(label).isLessThanOrEqualTo(budget * (1 + ROUNDING));
 
-    double engine = weightedGcFraction(pool, optimum);
+    double engine = Pools.objective(pool, optimum);
     double grid = pool.size() == 2 ? bestOfTwo(pool, budget) : bestOfThree(pool, budget);
     assertThat(engine).as(label).isLessThanOrEqualTo(grid * (1 + ROUNDING));
     assertThat(grid).as(label).isLessThanOrEqualTo(engine * (1 + gridSlack + ROUNDING));
@@ -246,7 +246,7 @@ class GridSearchTest {
         if (a.replicas() * ha + b.replicas() * hb > heapBudget) {
           break; // larger heaps of b only spend more
         }
-        best = Math.min(best, weightedGcFraction(pool, new double[] {ha, hb}));
+        best = Math.min(best, Pools.objective(pool, new double[] {ha, hb}));
       }
     }
     return best;
@@ -275,21 +275,10 @@ class GridSearchTest {
           break; // larger heaps of b only leave less
         }
         double hc = Math.min(boundsC.highBytes(), left);
-        best = Math.min(best, weightedGcFraction(pool, new double[] {ha, hb, hc}));
+        best = Math.min(best, Pools.objective(pool, new double[] {ha, hb, hc}));
       }
     }
     return best;
-  }
-
-  /** {@code sum n_i * w_i * k_i / (heap_i - L_i - E0_i)}: what the allocator minimises. */
-  private static double weightedGcFraction(List<Workload> pool, double[] heaps) {
-    double sum = 0;
-    for (int i = 0; i < heaps.length; i++) {
-      Workload w = pool.get(i);
-      double usable = heaps[i] - w.liveBytes() - w.gc().offsetBytes();
-      sum += w.replicas() * w.weight() * w.gc().constantBytes() / usable;
-    }
-    return sum;
   }
 
   private static long overheads(Workload... pool) {

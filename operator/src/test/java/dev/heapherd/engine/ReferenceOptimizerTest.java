@@ -151,8 +151,8 @@ class ReferenceOptimizerTest {
       double[] reference = referenceHeaps(pool, budget);
       assertWithinBoundsAndBudget(pool, reference, budget, instance);
 
-      double engineCost = weightedGcFraction(pool, engine);
-      double referenceCost = weightedGcFraction(pool, reference);
+      double engineCost = Pools.objective(pool, engine);
+      double referenceCost = Pools.objective(pool, reference);
       double gap = (engineCost - referenceCost) / referenceCost;
       // Reference: BOBYQAOptimizer from Hipparchus 4.0.2 (org.hipparchus:hipparchus-optim), see
       // referenceHeaps.
@@ -217,7 +217,7 @@ class ReferenceOptimizerTest {
       // One free heap or none: more heap never costs more GC, so it takes all it can.
       return candidate.heaps(ones(free.size()));
     }
-    double startCost = weightedGcFraction(pool, candidate.heaps(x));
+    double startCost = Pools.objective(pool, candidate.heaps(x));
     double multiplier = 0;
     boolean converged = false;
     for (int round = 0; round < MAX_LAGRANGIAN_ROUNDS && !converged; round++) {
@@ -226,7 +226,7 @@ class ReferenceOptimizerTest {
       MultivariateFunction lagrangian =
           y -> {
             double shifted = Math.max(0, m + PENALTY * candidate.overspend(y));
-            return weightedGcFraction(pool, candidate.heaps(y)) / startCost
+            return Pools.objective(pool, candidate.heaps(y)) / startCost
                 + (shifted * shifted - m * m) / (2 * PENALTY);
           };
       double radius = round == 0 ? BOBYQA_FIRST_RADIUS : BOBYQA_LATER_RADIUS;
@@ -296,17 +296,6 @@ class ReferenceOptimizerTest {
     double[] out = new double[size];
     Arrays.fill(out, 1);
     return out;
-  }
-
-  /** {@code sum n_i * w_i * k_i / (heap_i - L_i - E0_i)}, the quantity both sides minimise. */
-  private static double weightedGcFraction(List<Workload> pool, double[] heaps) {
-    double sum = 0;
-    for (int i = 0; i < heaps.length; i++) {
-      Workload w = pool.get(i);
-      double usable = heaps[i] - w.liveBytes() - w.gc().offsetBytes();
-      sum += w.replicas() * w.weight() * w.gc().constantBytes() / usable;
-    }
-    return sum;
   }
 
   private static void assertWithinBoundsAndBudget(

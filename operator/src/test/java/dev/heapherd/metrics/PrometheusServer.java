@@ -137,7 +137,8 @@ final class PrometheusServer implements AutoCloseable {
     }
   }
 
-  private static int freePort() throws IOException {
+  /** A loopback port free at the time of asking. */
+  static int freePort() throws IOException {
     try (ServerSocket socket = new ServerSocket(0, 1, java.net.InetAddress.getLoopbackAddress())) {
       return socket.getLocalPort();
     }

@@ -5,7 +5,6 @@ import static org.awaitility.Awaitility.await;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import java.io.IOException;
-import java.net.ServerSocket;
 import java.net.URI;
 import java.net.http.HttpClient;
 import java.net.http.HttpRequest;
@@ -56,8 +55,8 @@ final class WorkloadProcess implements AutoCloseable {
 
   static WorkloadProcess start(Spec spec, Path logDir, String name, String... jvmFlags)
       throws IOException {
-    int port = freePort();
-    int metricsPort = "otel".equals(spec.instrumentation()) ? freePort() : port;
+    int port = PrometheusServer.freePort();
+    int metricsPort = "otel".equals(spec.instrumentation()) ? PrometheusServer.freePort() : port;
     List<String> command = new ArrayList<>();
     command.add(Path.of(System.getProperty("java.home"), "bin", "java").toString());
     if ("otel".equals(spec.instrumentation())) {
@@ -138,12 +137,6 @@ final class WorkloadProcess implements AutoCloseable {
     } catch (InterruptedException e) {
       process.destroyForcibly();
       Thread.currentThread().interrupt();
-    }
-  }
-
-  private static int freePort() throws IOException {
-    try (ServerSocket socket = new ServerSocket(0, 1, java.net.InetAddress.getLoopbackAddress())) {
-      return socket.getLocalPort();
     }
   }
 }
