@@ -3,21 +3,17 @@ package dev.heapherd.cli;
 import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Snapshot;
-import dev.heapherd.metrics.FleetReader;
 import dev.heapherd.metrics.MetricsException;
+import dev.heapherd.metrics.PoolMetrics;
 import dev.heapherd.metrics.PrometheusClient;
 import dev.heapherd.metrics.PrometheusEndpoint;
 import dev.heapherd.metrics.QueryProfile;
-import dev.heapherd.metrics.QueryProfiles;
-import dev.heapherd.metrics.Signal;
-import dev.heapherd.metrics.SnapshotBuilder;
 import java.io.IOException;
 import java.net.URI;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
 import java.time.Instant;
-import java.util.Arrays;
 import java.util.Optional;
 import picocli.CommandLine.Option;
 
@@ -71,7 +67,7 @@ final class MetricsOptions {
     }
     String profileName = profile != null ? profile : pool.metrics().profile();
     QueryProfile queries =
-        QueryProfiles.named(profileName)
+        PoolMetrics.queries(profileName, pool.metrics())
             .orElseThrow(
                 () ->
                     new InputException(
@@ -80,14 +76,6 @@ final class MetricsOptions {
                         "unknown profile \""
                             + profileName
                             + "\" (use micrometer, client-java or otel)"));
-    for (PoolFile.Query q : pool.metrics().queries()) {
-      Signal signal =
-          Arrays.stream(Signal.values())
-              .filter(s -> s.key().equals(q.signal()))
-              .findFirst()
-              .orElseThrow();
-      queries = queries.withOverride(signal, q.promql());
-    }
     long window = windowSeconds != null ? windowSeconds : pool.metrics().windowSeconds();
     PrometheusClient client;
     try {
@@ -97,8 +85,7 @@ final class MetricsOptions {
     }
     var expected = pool.overrides().stream().map(PoolFile.Override::name).toList();
     String label = workloadLabel != null ? workloadLabel : pool.metrics().workloadLabel();
-    return new SnapshotBuilder(new FleetReader(client, queries), label)
-        .build(ns, window, Instant.now(), expected);
+    return PoolMetrics.measure(client, queries, label, ns, window, Instant.now(), expected);
   }
 
   private PrometheusEndpoint endpoint() throws InputException {

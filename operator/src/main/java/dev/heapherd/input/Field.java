@@ -134,6 +134,37 @@ final class Field {
     return value;
   }
 
+  /** A string matching {@code pattern} in full; {@code what} names it in the error. */
+  String matching(Pattern pattern, String what) throws InputException {
+    String value = text();
+    if (!pattern.matcher(value).matches()) {
+      throw error("\"" + value + "\" is not " + what);
+    }
+    return value;
+  }
+
+  /** An RFC 3339 timestamp such as {@code 2026-12-24T00:00:00Z}. */
+  java.time.Instant instant() throws InputException {
+    String value = text();
+    try {
+      return java.time.OffsetDateTime.parse(value).toInstant();
+    } catch (java.time.format.DateTimeParseException e) {
+      throw error("\"" + value + "\" is not an RFC 3339 time such as 2026-12-24T00:00:00Z");
+    }
+  }
+
+  /** Child {@code name} as a boolean, or {@code fallback} when absent. */
+  boolean booleanOr(String name, boolean fallback) throws InputException {
+    Optional<Field> f = optional(name);
+    if (f.isEmpty()) {
+      return fallback;
+    }
+    if (!f.get().node.isBoolean()) {
+      throw f.get().error("must be true or false, got " + f.get().describe());
+    }
+    return f.get().node.asBoolean();
+  }
+
   /** One of {@code values}, spelt exactly. */
   String oneOf(Set<String> values) throws InputException {
     String value = text();

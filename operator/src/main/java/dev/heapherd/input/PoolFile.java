@@ -15,6 +15,8 @@ import java.util.Map;
  * @param defaults settings for every workload of the pool
  * @param overrides settings for named workloads
  * @param metrics where and how to measure the pool's workloads
+ * @param rollout how Apply mode changes workloads
+ * @param approvedProposal the proposal hash an admin approved, empty when none
  */
 public record PoolFile(
     String name,
@@ -24,7 +26,48 @@ public record PoolFile(
     Map<String, String> matchLabels,
     WorkloadSettings defaults,
     List<Override> overrides,
-    Metrics metrics) {
+    Metrics metrics,
+    Rollout rollout,
+    String approvedProposal) {
+
+  /**
+   * How Apply mode changes workloads and the rails that keep it safe.
+   *
+   * @param containerName the container to resize; empty: the pod's first container
+   * @param jvmOptionsVariable environment variable that carries the JVM options
+   * @param setMemoryRequest also set the memory request to the new limit
+   * @param setInitialHeap also write -Xms equal to -Xmx
+   * @param automaticApproval apply any proposal, not only the approved hash
+   * @param maxRollingWorkloads workloads of the pool rolling at one time
+   * @param cooldownSeconds a workload is left alone this long after its last change
+   * @param changeThresholdPercent heap changes smaller than this are skipped
+   * @param metricsMaxAgeSeconds hold when the newest measurement is older
+   * @param freezeWindows periods in which no change starts
+   */
+  public record Rollout(
+      String containerName,
+      String jvmOptionsVariable,
+      boolean setMemoryRequest,
+      boolean setInitialHeap,
+      boolean automaticApproval,
+      long maxRollingWorkloads,
+      long cooldownSeconds,
+      long changeThresholdPercent,
+      long metricsMaxAgeSeconds,
+      List<FreezeWindow> freezeWindows) {
+    /** Copies the list. */
+    public Rollout {
+      freezeWindows = List.copyOf(freezeWindows);
+    }
+
+    /** Whether {@code at} falls in a freeze window. */
+    public boolean frozenAt(java.time.Instant at) {
+      return freezeWindows.stream().anyMatch(w -> !at.isBefore(w.start()) && at.isBefore(w.end()));
+    }
+  }
+
+  /** A period, start inclusive and end exclusive, in which no rollout starts. */
+  public record FreezeWindow(java.time.Instant start, java.time.Instant end) {}
 
   /** Settings for one named workload. */
   public record Override(String name, WorkloadSettings settings) {}

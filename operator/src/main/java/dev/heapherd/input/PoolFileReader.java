@@ -41,20 +41,49 @@ public final class PoolFileReader {
   public static final PoolFile.Metrics DEFAULT_METRICS =
       new PoolFile.Metrics("micrometer", 3600, List.of(), "");
 
+  /**
+   * Rollout defaults. The JVM reads JAVA_TOOL_OPTIONS at start (documented by the JDK tools
+   * reference), so it works without changing the image's command. Cooldown one hour, equal to the
+   * default metrics window, so the next estimate is made from pods running the new heap. Threshold
+   * 5 percent: our choice, below which the predicted gain rarely pays for restarting pods. Metrics
+   * older than 10 minutes: our choice, two default Prometheus staleness periods (5 minutes,
+   * documented by Prometheus).
+   */
+  public static final PoolFile.Rollout DEFAULT_ROLLOUT =
+      new PoolFile.Rollout("", "JAVA_TOOL_OPTIONS", true, false, false, 1, 3600, 5, 600, List.of());
+
+  /** Environment variable names a POSIX shell accepts. */
+  private static final Pattern ENV_NAME = Pattern.compile("[A-Za-z_][A-Za-z0-9_]*");
+
+  /** Container names: DNS-1123 labels, as Kubernetes requires. */
+  private static final Pattern CONTAINER_NAME = Pattern.compile("[a-z0-9]([-a-z0-9]*[a-z0-9])?");
+
+  /** Proposal hashes as the operator writes them. */
+  private static final Pattern HASH = Pattern.compile("[0-9a-f]{12,64}");
+
+  /** Longest cooldown or metrics age accepted: one week. */
+  public static final long MAX_SECONDS = 7L * 24 * 3600;
+
+  /** Most workloads allowed to roll at once: beyond it "one at a time" has lost its meaning. */
+  public static final long MAX_ROLLING = 100;
+
+  /** Shortest metrics age accepted: below a few scrape intervals every pool would hold. */
+  public static final long MIN_METRICS_AGE_SECONDS = 30;
+
   /** Prometheus label names, per its data model documentation. */
   private static final Pattern PROMETHEUS_LABEL = Pattern.compile("[a-zA-Z_][a-zA-Z0-9_]*");
 
   /** Shortest window: tests use tens of seconds at one-second scrapes. */
-  static final long MIN_WINDOW_SECONDS = 10;
+  public static final long MIN_WINDOW_SECONDS = 10;
 
   /** Longest window: one week, beyond which a fleet's code has usually changed. */
-  static final long MAX_WINDOW_SECONDS = 7L * 24 * 3600;
+  public static final long MAX_WINDOW_SECONDS = 7L * 24 * 3600;
 
   /** Upper bound on a weight: beyond it one workload would drown every other's GC time. */
-  static final long MAX_WEIGHT = 1000;
+  public static final long MAX_WEIGHT = 1000;
 
   /** Upper bound on percent settings: a heap ten times its live set is headroom enough. */
-  static final long MAX_PERCENT = 1000;
+  public static final long MAX_PERCENT = 1000;
 
   /** Metadata a pool file may carry, including what `kubectl get -o yaml` adds. */
   private static final Set<String> METADATA =
@@ -68,7 +97,11 @@ public final class PoolFileReader {
           "generation",
           "creationTimestamp",
           "managedFields",
-          "finalizers");
+          "finalizers",
+          "ownerReferences",
+          "generateName",
+          "deletionTimestamp",
+          "deletionGracePeriodSeconds");
 
   private static final Set<String> SETTINGS =
       Set.of(
@@ -83,8 +116,20 @@ public final class PoolFileReader {
 
   /** Reads {@code file}; every problem is reported as an {@link InputException}. */
   public static PoolFile read(Path file) throws InputException {
-    Field root =
-        Documents.read(file).allowOnly(Set.of("apiVersion", "kind", "metadata", "spec", "status"));
+    return read(Documents.read(file));
+  }
+
+  /**
+   * Validates a HeapPool already parsed into a tree, such as one read from the API server; errors
+   * name {@code source} where a file reader would name the file.
+   */
+  public static PoolFile fromTree(String source, com.fasterxml.jackson.databind.JsonNode tree)
+      throws InputException {
+    return read(Field.root(source, tree));
+  }
+
+  private static PoolFile read(Field document) throws InputException {
+    Field root = document.allowOnly(Set.of("apiVersion", "kind", "metadata", "spec", "status"));
     String apiVersion = root.required("apiVersion").text();
     if (!API_VERSION.equals(apiVersion)) {
       throw root.required("apiVersion").error("must be " + API_VERSION + ", got " + apiVersion);
@@ -107,7 +152,9 @@ public final class PoolFileReader {
                     "selector",
                     "defaults",
                     "overrides",
-                    "metrics"));
+                    "metrics",
+                    "rollout",
+                    "approvedProposal"));
     String mode = spec.oneOfOrDefault("mode", Set.of("DryRun", "Apply"), "DryRun");
     Objective objective = objective(spec);
     Field selector = spec.required("selector").allowOnly(Set.of("matchLabels"));
@@ -148,8 +195,76 @@ public final class PoolFileReader {
     Optional<Field> metricsField = spec.optional("metrics");
     PoolFile.Metrics metrics =
         metricsField.isPresent() ? metrics(metricsField.get()) : DEFAULT_METRICS;
+    Optional<Field> rolloutField = spec.optional("rollout");
+    PoolFile.Rollout rollout =
+        rolloutField.isPresent() ? rollout(rolloutField.get()) : DEFAULT_ROLLOUT;
+    String approved = "";
+    if (spec.optional("approvedProposal").isPresent()) {
+      approved = spec.required("approvedProposal").matching(HASH, "a proposal hash");
+    }
     return new PoolFile(
-        name, namespace, mode, objective, matchLabels, defaults, overrides, metrics);
+        name,
+        namespace,
+        mode,
+        objective,
+        matchLabels,
+        defaults,
+        overrides,
+        metrics,
+        rollout,
+        approved);
+  }
+
+  private static PoolFile.Rollout rollout(Field f) throws InputException {
+    f.allowOnly(
+        Set.of(
+            "containerName",
+            "jvmOptionsVariable",
+            "setMemoryRequest",
+            "setInitialHeap",
+            "approval",
+            "maxRollingWorkloads",
+            "cooldownSeconds",
+            "changeThresholdPercent",
+            "metricsMaxAgeSeconds",
+            "freezeWindows"));
+    PoolFile.Rollout d = DEFAULT_ROLLOUT;
+    String container = d.containerName();
+    if (f.optional("containerName").isPresent()) {
+      container = f.required("containerName").matching(CONTAINER_NAME, "a container name");
+    }
+    String variable = d.jvmOptionsVariable();
+    if (f.optional("jvmOptionsVariable").isPresent()) {
+      variable =
+          f.required("jvmOptionsVariable").matching(ENV_NAME, "an environment variable name");
+    }
+    Long rolling = f.integerOrNull("maxRollingWorkloads", 1, MAX_ROLLING);
+    Long cooldown = f.integerOrNull("cooldownSeconds", 0, MAX_SECONDS);
+    Long threshold = f.integerOrNull("changeThresholdPercent", 0, 100);
+    Long maxAge = f.integerOrNull("metricsMaxAgeSeconds", MIN_METRICS_AGE_SECONDS, MAX_SECONDS);
+    List<PoolFile.FreezeWindow> windows = new ArrayList<>();
+    if (f.optional("freezeWindows").isPresent()) {
+      for (Field w : f.required("freezeWindows").list()) {
+        w.allowOnly(Set.of("start", "end"));
+        var start = w.required("start").instant();
+        var end = w.required("end").instant();
+        if (!end.isAfter(start)) {
+          throw w.required("end").error("must be after start " + start);
+        }
+        windows.add(new PoolFile.FreezeWindow(start, end));
+      }
+    }
+    return new PoolFile.Rollout(
+        container,
+        variable,
+        f.booleanOr("setMemoryRequest", d.setMemoryRequest()),
+        f.booleanOr("setInitialHeap", d.setInitialHeap()),
+        "Automatic".equals(f.oneOfOrDefault("approval", Set.of("Manual", "Automatic"), "Manual")),
+        rolling == null ? d.maxRollingWorkloads() : rolling,
+        cooldown == null ? d.cooldownSeconds() : cooldown,
+        threshold == null ? d.changeThresholdPercent() : threshold,
+        maxAge == null ? d.metricsMaxAgeSeconds() : maxAge,
+        windows);
   }
 
   private static PoolFile.Metrics metrics(Field f) throws InputException {

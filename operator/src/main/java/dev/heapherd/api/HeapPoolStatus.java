@@ -1,0 +1,98 @@
+package dev.heapherd.api;
+
+import com.fasterxml.jackson.annotation.JsonInclude;
+import com.fasterxml.jackson.annotation.JsonPropertyDescription;
+import io.fabric8.kubernetes.api.model.Condition;
+import java.util.ArrayList;
+import java.util.List;
+
+/** What the operator observed and decided for a pool. */
+@JsonInclude(JsonInclude.Include.NON_NULL)
+public class HeapPoolStatus {
+
+  @JsonPropertyDescription("The spec generation this status was computed from.")
+  public Long observedGeneration;
+
+  @JsonPropertyDescription(
+      "Ready, MetricsAvailable, BudgetFeasible, ProposalReady, RolloutInProgress, Degraded.")
+  public List<Condition> conditions = new ArrayList<>();
+
+  @JsonPropertyDescription("The current proposal: what the pool would look like after rollout.")
+  public Proposal proposal;
+
+  @JsonPropertyDescription("The latest actions on workloads, newest first.")
+  public List<Action> history = new ArrayList<>();
+
+  /** A proposal with its content hash. */
+  @JsonInclude(JsonInclude.Include.NON_NULL)
+  public static class Proposal {
+    @JsonPropertyDescription("Hash of the proposed heaps and limits; approve it by this value.")
+    public String hash;
+
+    @JsonPropertyDescription("When this proposal was first computed.")
+    public String computedAt;
+
+    @JsonPropertyDescription("Memory the pool may use: the budget, or the size prices chose.")
+    public String memoryBudget;
+
+    @JsonPropertyDescription("Sum of replicas x proposed limit, held workloads included.")
+    public String memoryUsed;
+
+    @JsonPropertyDescription("Sum of replicas x current limit, held workloads included.")
+    public String memoryUsedNow;
+
+    @JsonPropertyDescription("Predicted pool GC seconds per hour now.")
+    public String gcSecondsPerHourBefore;
+
+    @JsonPropertyDescription("Predicted pool GC seconds per hour after the proposal.")
+    public String gcSecondsPerHourAfter;
+
+    @JsonPropertyDescription("Relative change of pool GC time, e.g. -38%.")
+    public String gcChange;
+
+    @JsonPropertyDescription("Per workload: current and proposed sizes.")
+    public List<ProposedWorkload> workloads = new ArrayList<>();
+
+    @JsonPropertyDescription("Workloads kept as they are, with the reason.")
+    public List<HeldWorkload> held = new ArrayList<>();
+  }
+
+  /** One workload's part of a proposal. */
+  @JsonInclude(JsonInclude.Include.NON_NULL)
+  public static class ProposedWorkload {
+    public String name;
+    public String kind;
+    public Integer replicas;
+    public String currentHeap;
+    public String proposedHeap;
+    public String currentLimit;
+    public String proposedLimit;
+    public String gcSecondsPerHourBefore;
+    public String gcSecondsPerHourAfter;
+
+    @JsonPropertyDescription("What decided the heap: Optimum, Floor, Ceiling, StepLimit, ...")
+    public String bound;
+  }
+
+  /** A workload left as it is. */
+  @JsonInclude(JsonInclude.Include.NON_NULL)
+  public static class HeldWorkload {
+    public String name;
+    public String reason;
+  }
+
+  /** Something the operator did to a workload. */
+  @JsonInclude(JsonInclude.Include.NON_NULL)
+  public static class Action {
+    public String time;
+    public String workload;
+
+    @JsonPropertyDescription("HeapRaised, HeapLowered, RolloutFinished, RolloutRolledBack.")
+    public String action;
+
+    public String fromHeap;
+    public String toHeap;
+    public String proposalHash;
+    public String message;
+  }
+}

@@ -1,0 +1,32 @@
+package dev.heapherd.api;
+
+/** Regular expressions the CRD schema checks fields against. */
+final class Patterns {
+
+  /**
+   * A non-negative Kubernetes quantity of bytes: digits, an optional fraction and an optional
+   * binary or decimal suffix. The sign is left out on purpose so a negative size fails validation.
+   */
+  static final String BYTES = "^[0-9]+(\\.[0-9]+)?(Ki|Mi|Gi|Ti|Pi|Ei|k|M|G|T|P|E)?$";
+
+  /** A positive decimal price such as {@code 0.0045}. */
+  static final String PRICE = "^[0-9]+(\\.[0-9]+)?$";
+
+  /** A name a POSIX shell accepts for an environment variable. */
+  static final String ENV_NAME = "^[A-Za-z_][A-Za-z0-9_]*$";
+
+  /** A DNS-1123 label: what Kubernetes accepts as a container name. */
+  static final String DNS_LABEL = "^[a-z0-9]([-a-z0-9]*[a-z0-9])?$";
+
+  /** A Prometheus label name. */
+  static final String PROMETHEUS_LABEL = "^[a-zA-Z_][a-zA-Z0-9_]*$";
+
+  /** A proposal hash as the operator writes it: lowercase hexadecimal. */
+  static final String HASH = "^[0-9a-f]{12,64}$";
+
+  /** An RFC 3339 timestamp with seconds and a zone. */
+  static final String TIMESTAMP =
+      "^[0-9]{4}-[0-9]{2}-[0-9]{2}T[0-9]{2}:[0-9]{2}:[0-9]{2}(\\.[0-9]+)?(Z|[+-][0-9]{2}:[0-9]{2})$";
+
+  private Patterns() {}
+}

@@ -1,0 +1,272 @@
+package dev.heapherd.reconcile;
+
+import dev.heapherd.api.HeapPool;
+import dev.heapherd.api.HeapPoolStatus;
+import dev.heapherd.input.InputException;
+import dev.heapherd.input.PoolFile;
+import dev.heapherd.input.Snapshot;
+import dev.heapherd.rollout.PodTemplates;
+import dev.heapherd.rollout.RolloutPlanner;
+import dev.heapherd.rollout.RolloutStep;
+import dev.heapherd.rollout.WorkloadState;
+import io.fabric8.kubernetes.api.model.HasMetadata;
+import io.fabric8.kubernetes.api.model.Pod;
+import io.fabric8.kubernetes.api.model.apps.Deployment;
+import io.fabric8.kubernetes.api.model.apps.StatefulSet;
+import io.fabric8.kubernetes.client.utils.KubernetesSerialization;
+import io.javaoperatorsdk.operator.api.config.informer.InformerEventSourceConfiguration;
+import io.javaoperatorsdk.operator.api.reconciler.Context;
+import io.javaoperatorsdk.operator.api.reconciler.ControllerConfiguration;
+import io.javaoperatorsdk.operator.api.reconciler.EventSourceContext;
+import io.javaoperatorsdk.operator.api.reconciler.MaxReconciliationInterval;
+import io.javaoperatorsdk.operator.api.reconciler.Reconciler;
+import io.javaoperatorsdk.operator.api.reconciler.UpdateControl;
+import io.javaoperatorsdk.operator.processing.event.ResourceID;
+import io.javaoperatorsdk.operator.processing.event.source.EventSource;
+import io.javaoperatorsdk.operator.processing.event.source.informer.InformerEventSource;
+import java.time.Clock;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.OptionalLong;
+import java.util.Set;
+import java.util.concurrent.TimeUnit;
+import java.util.stream.Collectors;
+import java.util.stream.Stream;
+
+/**
+ * Reconciles a HeapPool: observes its workloads and metrics, publishes a proposal, and in Apply
+ * mode takes the rollout steps the planner allows. Level-triggered: every visit recomputes from
+ * what the caches and Prometheus show.
+ */
+@ControllerConfiguration(
+    maxReconciliationInterval =
+        @MaxReconciliationInterval(
+            interval = HeapPoolReconciler.REMEASURE_SECONDS,
+            timeUnit = TimeUnit.SECONDS))
+public class HeapPoolReconciler implements Reconciler<HeapPool> {
+
+  /** How often a quiet pool is measured again: once a minute, a few scrapes apart. */
+  static final long REMEASURE_SECONDS = 60;
+
+  /** How soon a pool with a rollout running is looked at again, to catch a failing pod early. */
+  static final Duration ROLLING_RECHECK = Duration.ofSeconds(5);
+
+  private static final KubernetesSerialization JSON = new KubernetesSerialization();
+
+  private final MetricsSource metrics;
+  private final Clock clock;
+  private final OperatorMetrics meters;
+  private InformerEventSource<Deployment, HeapPool> deployments;
+  private InformerEventSource<StatefulSet, HeapPool> statefulSets;
+  private InformerEventSource<Pod, HeapPool> pods;
+
+  /** A reconciler measuring through {@code metrics}. */
+  public HeapPoolReconciler(MetricsSource metrics, Clock clock, OperatorMetrics meters) {
+    this.metrics = metrics;
+    this.clock = clock;
+    this.meters = meters;
+  }
+
+  @Override
+  public List<EventSource<?, HeapPool>> prepareEventSources(EventSourceContext<HeapPool> context) {
+    deployments = informer(Deployment.class, context);
+    statefulSets = informer(StatefulSet.class, context);
+    pods = informer(Pod.class, context);
+    return List.of(deployments, statefulSets, pods);
+  }
+
+  /** Any change to a workload or pod wakes every pool of its namespace. */
+  private static <R extends HasMetadata> InformerEventSource<R, HeapPool> informer(
+      Class<R> type, EventSourceContext<HeapPool> context) {
+    var config =
+        InformerEventSourceConfiguration.from(type, HeapPool.class)
+            .withSecondaryToPrimaryMapper(
+                (R r) ->
+                    context
+                        .getPrimaryCache()
+                        .list(r.getMetadata().getNamespace())
+                        .map(ResourceID::fromResource)
+                        .collect(Collectors.toSet()))
+            .build();
+    return new InformerEventSource<>(config, context);
+  }
+
+  @Override
+  public UpdateControl<HeapPool> reconcile(HeapPool pool, Context<HeapPool> context) {
+    Instant now = clock.instant();
+    HeapPoolStatus before = pool.getStatus();
+    HeapPoolStatus status = before == null ? new HeapPoolStatus() : JSON.clone(before);
+    PoolVisit visit = new PoolVisit(pool, status, now, new PoolEvents(context.getClient()));
+    boolean rolling = visit(visit, new RolloutWriter(context.getClient()));
+    status.observedGeneration = pool.getMetadata().getGeneration();
+    meters.reconciled(
+        visit.namespace(), pool.getMetadata().getName(), Duration.between(now, clock.instant()));
+    UpdateControl<HeapPool> control;
+    if (JSON.asJson(status).equals(before == null ? "" : JSON.asJson(before))) {
+      control = UpdateControl.noUpdate();
+    } else {
+      pool.setStatus(status);
+      control = UpdateControl.patchStatus(pool);
+    }
+    return rolling ? control.rescheduleAfter(ROLLING_RECHECK) : control;
+  }
+
+  /** One visit: returns whether a rollout is running, so the pool is looked at again soon. */
+  private boolean visit(PoolVisit v, RolloutWriter writer) {
+    PoolFile spec;
+    try {
+      spec = PoolSpecs.read(v.pool());
+    } catch (InputException e) {
+      v.degraded("InvalidSpec", e.getMessage());
+      return false;
+    }
+    List<PoolWorkload> found = select(v.namespace(), spec);
+    if (found.isEmpty()) {
+      v.degraded(
+          "NoWorkloads",
+          "no Deployment or StatefulSet in namespace "
+              + v.namespace()
+              + " carries the labels "
+              + spec.matchLabels());
+      return false;
+    }
+    String problem = checkContainers(found, spec.rollout());
+    if (!problem.isEmpty()) {
+      v.degraded("WorkloadNotChangeable", problem);
+      return false;
+    }
+    Map<String, PoolWorkload> selected = new LinkedHashMap<>();
+    found.forEach(w -> selected.put(w.name(), w));
+    List<Pod> podsNow = pods.list(v.namespace()).toList();
+    Map<String, WorkloadState> states = new LinkedHashMap<>();
+    selected.forEach((name, w) -> states.put(name, Observer.observe(w, podsNow, spec.rollout())));
+
+    Snapshot snapshot = metrics.measure(spec, v.namespace(), selected.keySet(), v.now());
+    String metricsHeld = v.metricsCondition(spec, snapshot, selected.size());
+    boolean anyInFlight = states.values().stream().anyMatch(s -> s.inFlight().isPresent());
+    v.propose(spec, states, kinds(selected), snapshot, anyInFlight, meters);
+
+    List<RolloutStep> steps = List.of();
+    if ("Apply".equals(spec.mode())) {
+      HeapPoolStatus.Proposal p = v.status().proposal;
+      var gates =
+          new RolloutPlanner.Gates(
+              p != null
+                  && (spec.rollout().automaticApproval() || p.hash.equals(spec.approvedProposal())),
+              spec.rollout().frozenAt(v.now()),
+              metricsHeld,
+              spec.rollout().maxRollingWorkloads(),
+              spec.rollout().cooldownSeconds(),
+              spec.rollout().changeThresholdPercent(),
+              spec.objective() instanceof dev.heapherd.engine.Objective.Budget b
+                  ? OptionalLong.of(b.bytes())
+                  : OptionalLong.empty(),
+              v.now());
+      steps =
+          RolloutPlanner.decide(
+              new ArrayList<>(states.values()),
+              p == null ? Map.of() : ProposalBuilder.targets(p),
+              gates);
+      for (RolloutStep step : steps) {
+        take(step, v, spec, selected.get(step.workload()), states.get(step.workload()), writer);
+      }
+    }
+    return v.rolloutConditions(spec, states, steps);
+  }
+
+  private void take(
+      RolloutStep step,
+      PoolVisit v,
+      PoolFile spec,
+      PoolWorkload w,
+      WorkloadState state,
+      RolloutWriter writer) {
+    String pool = v.pool().getMetadata().getName();
+    if (step instanceof RolloutStep.Start s) {
+      HasMetadata written = writer.start(w, s, spec.rollout(), v.status().proposal.hash, v.now());
+      String reason = s.grows() ? "HeapRaised" : "HeapLowered";
+      v.act(
+          written,
+          reason,
+          state.heapBytes(),
+          s.heapBytes(),
+          "rolling to heap "
+              + PodTemplates.mebibytes(s.heapBytes())
+              + ", limit "
+              + PodTemplates.mebibytes(s.limitBytes()));
+      meters.step(v.namespace(), pool, "started");
+    } else if (step instanceof RolloutStep.Finish) {
+      HasMetadata written = writer.finish(w, v.now());
+      v.act(
+          written,
+          "RolloutFinished",
+          state.heapBytes(),
+          state.heapBytes(),
+          "every pod runs the new heap");
+      meters.step(v.namespace(), pool, "finished");
+    } else if (step instanceof RolloutStep.RollBack r) {
+      var record = state.inFlight().orElseThrow();
+      HasMetadata written = writer.rollBack(w, record, spec.rollout(), v.now());
+      v.act(
+          written,
+          "RolloutRolledBack",
+          record.targetHeapBytes(),
+          record.previousJvmOptions() == null
+              ? 0
+              : dev.heapherd.rollout.JvmOptions.maxHeapBytes(record.previousJvmOptions()).orElse(0),
+          r.reason() + "; previous values restored");
+      meters.step(v.namespace(), pool, "rolledBack");
+    } else if (step instanceof RolloutStep.Hold h) {
+      v.held(h);
+      meters.railTripped(v.namespace(), pool, h.rail().name());
+    }
+  }
+
+  /** The pool's workloads from the informer caches, sorted by name. */
+  private List<PoolWorkload> select(String namespace, PoolFile spec) {
+    return Stream.concat(deployments.list(namespace), statefulSets.list(namespace))
+        .filter(r -> r.getMetadata().getLabels() != null)
+        .filter(
+            r -> r.getMetadata().getLabels().entrySet().containsAll(spec.matchLabels().entrySet()))
+        .map(PoolWorkload::new)
+        .sorted(java.util.Comparator.comparing(PoolWorkload::name))
+        .toList();
+  }
+
+  /** Why some workload cannot be resized as the spec says, or empty. */
+  private static String checkContainers(
+      java.util.Collection<PoolWorkload> workloads, PoolFile.Rollout r) {
+    List<String> problems = new ArrayList<>();
+    for (PoolWorkload w : workloads) {
+      var m = PodTemplates.read(w.template(), r.containerName(), r.jvmOptionsVariable());
+      if (m.isEmpty()) {
+        problems.add(
+            w.kind() + " " + w.name() + " has no container named \"" + r.containerName() + "\"");
+      } else if (m.get().jvmOptionsFromReference()) {
+        problems.add(
+            w.kind()
+                + " "
+                + w.name()
+                + " takes "
+                + r.jvmOptionsVariable()
+                + " from a reference (ConfigMap, Secret or field); heapherd writes only literal values");
+      }
+    }
+    Set<String> names = workloads.stream().map(PoolWorkload::name).collect(Collectors.toSet());
+    if (names.size() < workloads.size()) {
+      problems.add(
+          "a Deployment and a StatefulSet share a name; rename one or narrow the selector");
+    }
+    return String.join("; ", problems);
+  }
+
+  private static Map<String, String> kinds(Map<String, PoolWorkload> selected) {
+    Map<String, String> out = new LinkedHashMap<>();
+    selected.forEach((n, w) -> out.put(n, w.kind()));
+    return out;
+  }
+}

@@ -1,0 +1,179 @@
+package dev.heapherd.reconcile;
+
+import dev.heapherd.input.PoolFile;
+import dev.heapherd.input.Quantity;
+import dev.heapherd.rollout.PodTemplates;
+import dev.heapherd.rollout.RolloutRecord;
+import dev.heapherd.rollout.WorkloadState;
+import io.fabric8.kubernetes.api.model.ContainerStatus;
+import io.fabric8.kubernetes.api.model.EnvVar;
+import io.fabric8.kubernetes.api.model.Pod;
+import io.fabric8.kubernetes.api.model.PodTemplateSpec;
+import java.nio.charset.StandardCharsets;
+import java.security.MessageDigest;
+import java.security.NoSuchAlgorithmException;
+import java.time.Instant;
+import java.time.OffsetDateTime;
+import java.time.format.DateTimeParseException;
+import java.util.HexFormat;
+import java.util.List;
+import java.util.Objects;
+import java.util.Optional;
+
+/** Turns a workload and its pods, as the API server shows them, into the planner's view. */
+public final class Observer {
+
+  /**
+   * Restarts of a pod on heapherd's template that count as a crash loop even before the kubelet
+   * reports CrashLoopBackOff. Our choice: one restart can be chance, three is a pattern.
+   */
+  static final int CRASH_RESTARTS = 3;
+
+  /** The kubelet's reason for a container killed by the kernel's OOM killer. */
+  static final String OOM_KILLED = "OOMKilled";
+
+  /** The kubelet's waiting reason for a container that keeps failing. */
+  static final String CRASH_LOOP = "CrashLoopBackOff";
+
+  private static final int FINGERPRINT_HEX = 16;
+
+  private Observer() {}
+
+  /** The planner's view of {@code w}; {@code pods} are the pods of its namespace. */
+  public static WorkloadState observe(PoolWorkload w, List<Pod> pods, PoolFile.Rollout rollout) {
+    PodTemplates.MemorySettings m =
+        PodTemplates.read(w.template(), rollout.containerName(), rollout.jvmOptionsVariable())
+            .orElseThrow(() -> new IllegalArgumentException("no container in " + w.name()));
+    long containerLimit = m.limitBytes().orElse(0);
+    Optional<RolloutRecord> inFlight =
+        RolloutRecord.fromJson(w.annotations().get(Annotations.ROLLOUT));
+    Optional<String> failure =
+        inFlight.isPresent() ? failure(w, pods, m, rollout.jvmOptionsVariable()) : Optional.empty();
+    return new WorkloadState(
+        w.name(),
+        w.replicas(),
+        w.surgePods(),
+        containerLimit + m.otherContainersLimitBytes(),
+        m.otherContainersLimitBytes(),
+        m.heapBytes().orElse(0),
+        "true".equalsIgnoreCase(w.annotations().get(Annotations.OPT_OUT)),
+        inFlight,
+        w.rolloutDone(),
+        failure,
+        fingerprint(w.template()).equals(w.annotations().get(Annotations.ROLLED_BACK)),
+        instant(w.annotations().get(Annotations.CHANGED_AT)));
+  }
+
+  /**
+   * A short hash of what a pod template runs: each container's name, image, command, arguments,
+   * environment and memory sizes in bytes. Fields the API server fills in by default and the
+   * spelling of quantities (it rewrites 1024Mi as 1Gi) do not change it.
+   */
+  public static String fingerprint(PodTemplateSpec template) {
+    StringBuilder text = new StringBuilder();
+    for (var c : template.getSpec().getContainers()) {
+      text.append(c.getName())
+          .append('|')
+          .append(c.getImage())
+          .append('|')
+          .append(c.getCommand())
+          .append('|')
+          .append(c.getArgs())
+          .append('|');
+      if (c.getEnv() != null) {
+        c.getEnv()
+            .forEach(e -> text.append(e.getName()).append('=').append(e.getValue()).append(';'));
+      }
+      var resources = c.getResources();
+      if (resources != null) {
+        text.append('|').append(bytes(resources.getLimits())).append('|');
+        text.append(bytes(resources.getRequests()));
+      }
+      text.append('\n');
+    }
+    try {
+      byte[] digest =
+          MessageDigest.getInstance("SHA-256")
+              .digest(text.toString().getBytes(StandardCharsets.UTF_8));
+      return HexFormat.of().formatHex(digest).substring(0, FINGERPRINT_HEX);
+    } catch (NoSuchAlgorithmException e) {
+      throw new IllegalStateException("every JVM provides SHA-256", e);
+    }
+  }
+
+  private static String bytes(java.util.Map<String, io.fabric8.kubernetes.api.model.Quantity> map) {
+    if (map == null || !map.containsKey("memory")) {
+      return "";
+    }
+    return String.valueOf(Quantity.parseBytes(map.get("memory").toString()));
+  }
+
+  /** Why a pod running heapherd's template failed, if one did. */
+  private static Optional<String> failure(
+      PoolWorkload w, List<Pod> pods, PodTemplates.MemorySettings m, String variable) {
+    for (Pod pod : pods) {
+      if (!isNewPodOf(pod, w, m, variable) || pod.getStatus() == null) {
+        continue;
+      }
+      List<ContainerStatus> statuses = pod.getStatus().getContainerStatuses();
+      for (ContainerStatus s : statuses == null ? List.<ContainerStatus>of() : statuses) {
+        if (!m.containerName().equals(s.getName())) {
+          continue;
+        }
+        String podName = pod.getMetadata().getName();
+        if (terminatedBy(s, OOM_KILLED)) {
+          return Optional.of("pod " + podName + " was OOMKilled");
+        }
+        if (s.getState() != null
+            && s.getState().getWaiting() != null
+            && CRASH_LOOP.equals(s.getState().getWaiting().getReason())) {
+          return Optional.of("pod " + podName + " is crash-looping");
+        }
+        if (s.getRestartCount() != null && s.getRestartCount() >= CRASH_RESTARTS) {
+          return Optional.of("pod " + podName + " restarted " + s.getRestartCount() + " times");
+        }
+      }
+    }
+    return Optional.empty();
+  }
+
+  private static boolean terminatedBy(ContainerStatus s, String reason) {
+    boolean now =
+        s.getState() != null
+            && s.getState().getTerminated() != null
+            && reason.equals(s.getState().getTerminated().getReason());
+    boolean before =
+        s.getLastState() != null
+            && s.getLastState().getTerminated() != null
+            && reason.equals(s.getLastState().getTerminated().getReason());
+    return now || before;
+  }
+
+  /** The pod belongs to the workload and runs the JVM options heapherd wrote. */
+  private static boolean isNewPodOf(
+      Pod pod, PoolWorkload w, PodTemplates.MemorySettings m, String variable) {
+    var labels = pod.getMetadata().getLabels();
+    if (labels == null
+        || w.podSelector().isEmpty()
+        || !labels.entrySet().containsAll(w.podSelector().entrySet())) {
+      return false;
+    }
+    return pod.getSpec().getContainers().stream()
+        .filter(c -> m.containerName().equals(c.getName()))
+        .flatMap(c -> c.getEnv() == null ? java.util.stream.Stream.empty() : c.getEnv().stream())
+        .filter(e -> variable.equals(e.getName()))
+        .map(EnvVar::getValue)
+        .anyMatch(v -> Objects.equals(v, m.jvmOptions()));
+  }
+
+  private static Optional<Instant> instant(String text) {
+    if (text == null) {
+      return Optional.empty();
+    }
+    try {
+      return Optional.of(OffsetDateTime.parse(text).toInstant());
+    } catch (DateTimeParseException e) {
+      return Optional.empty();
+    }
+  }
+}

@@ -1,0 +1,256 @@
+package dev.heapherd.reconcile;
+
+import dev.heapherd.api.HeapPoolStatus;
+import dev.heapherd.engine.Objective;
+import dev.heapherd.engine.PoolPlan;
+import dev.heapherd.engine.WorkloadPlan;
+import dev.heapherd.input.InputException;
+import dev.heapherd.input.PoolFile;
+import dev.heapherd.input.Quantity;
+import dev.heapherd.input.Snapshot;
+import dev.heapherd.plan.Planner;
+import dev.heapherd.rollout.PodTemplates;
+import dev.heapherd.rollout.RolloutPlanner.Target;
+import dev.heapherd.rollout.WorkloadState;
+import java.nio.charset.StandardCharsets;
+import java.security.MessageDigest;
+import java.security.NoSuchAlgorithmException;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.HexFormat;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+import java.util.Set;
+import java.util.TreeMap;
+import java.util.stream.Collectors;
+
+/** Turns a pool's measurements and observed workloads into a proposal with a content hash. */
+public final class ProposalBuilder {
+
+  /** Hex digits of the proposal hash: 64 bits, enough to tell proposals of one pool apart. */
+  private static final int HASH_HEX = 16;
+
+  private static final double PERCENT = 100.0;
+
+  private ProposalBuilder() {}
+
+  /**
+   * A proposal and the sizes it asks for.
+   *
+   * @param proposal as published in status
+   * @param targets proposed sizes by workload name
+   * @param plan the engine's answer it came from
+   */
+  public record Result(
+      HeapPoolStatus.Proposal proposal, Map<String, Target> targets, PoolPlan plan) {}
+
+  /**
+   * Plans the pool. Workloads the snapshot holds, that opted out or were rolled back keep their
+   * sizes and their memory is taken from the budget, as is that of containers heapherd never
+   * resizes.
+   *
+   * @param states every workload the pool selects, by name
+   * @param kinds Deployment or StatefulSet, by name
+   * @throws InputException when the pool cannot be planned (e.g. nothing measured)
+   */
+  public static Result build(
+      PoolFile pool,
+      Map<String, WorkloadState> states,
+      Map<String, String> kinds,
+      Snapshot snapshot,
+      Instant now)
+      throws InputException {
+    Map<String, String> heldReasons = new TreeMap<>();
+    snapshot.held().stream()
+        .filter(h -> states.containsKey(h.name()))
+        .forEach(h -> heldReasons.put(h.name(), h.reason()));
+    states.values().stream()
+        .filter(WorkloadState::optedOut)
+        .forEach(w -> heldReasons.put(w.name(), "opted out by annotation"));
+    states.values().stream()
+        .filter(WorkloadState::rolledBack)
+        .forEach(
+            w -> heldReasons.put(w.name(), "rolled back; held until its pod template changes"));
+    List<Snapshot.Workload> measured = new ArrayList<>();
+    for (Snapshot.Workload m : snapshot.workloads()) {
+      WorkloadState s = states.get(m.name());
+      if (s != null && !heldReasons.containsKey(m.name())) {
+        // The spec's replica count is what the budget must hold; scrapes can lag a scale change.
+        measured.add(withReplicas(m, s.replicas()));
+      }
+    }
+    states.keySet().stream()
+        .filter(n -> !heldReasons.containsKey(n))
+        .filter(n -> measured.stream().noneMatch(m -> m.name().equals(n)))
+        .forEach(n -> heldReasons.put(n, "no metrics found for it"));
+    List<Snapshot.Held> held =
+        heldReasons.entrySet().stream()
+            .map(
+                e ->
+                    new Snapshot.Held(
+                        e.getKey(), e.getValue(), states.get(e.getKey()).steadyBytes()))
+            .toList();
+    long sidecarBytes =
+        measured.stream()
+            .mapToLong(m -> (long) m.replicas() * states.get(m.name()).otherContainersBytes())
+            .sum();
+    PoolFile planned = withBudgetLess(pool, sidecarBytes);
+    Snapshot input = new Snapshot(snapshot.capturedAt(), snapshot.windowSeconds(), measured, held);
+    PoolPlan plan = Planner.plan(planned, "spec", input, "metrics");
+
+    HeapPoolStatus.Proposal p = new HeapPoolStatus.Proposal();
+    Map<String, Target> targets = new LinkedHashMap<>();
+    long usedNow = held.stream().mapToLong(Snapshot.Held::memoryBytes).sum();
+    for (WorkloadPlan w : plan.workloads()) {
+      WorkloadState s = states.get(w.workload().name());
+      targets.put(w.workload().name(), new Target(w.heapBytes(), w.limitBytes()));
+      usedNow += s.steadyBytes();
+      HeapPoolStatus.ProposedWorkload out = new HeapPoolStatus.ProposedWorkload();
+      out.name = w.workload().name();
+      out.kind = kinds.get(out.name);
+      out.replicas = w.workload().replicas();
+      out.currentHeap = PodTemplates.mebibytes(w.workload().currentHeapBytes());
+      out.proposedHeap = PodTemplates.mebibytes(w.heapBytes());
+      out.currentLimit = PodTemplates.mebibytes(s.podLimitBytes() - s.otherContainersBytes());
+      out.proposedLimit = PodTemplates.mebibytes(w.limitBytes());
+      out.gcSecondsPerHourBefore = seconds(w.gcSecondsPerHour().current());
+      out.gcSecondsPerHourAfter = seconds(w.gcSecondsPerHour().proposed());
+      out.bound = w.bound().label();
+      p.workloads.add(out);
+    }
+    for (Snapshot.Held h : held) {
+      HeapPoolStatus.HeldWorkload out = new HeapPoolStatus.HeldWorkload();
+      out.name = h.name();
+      out.reason = h.reason();
+      p.held.add(out);
+    }
+    long heldBytes = held.stream().mapToLong(Snapshot.Held::memoryBytes).sum();
+    p.memoryBudget =
+        Quantity.format(
+            pool.objective() instanceof Objective.Budget b ? b.bytes() : plan.budgetBytes());
+    p.memoryUsed = Quantity.format(plan.usedBytes() + sidecarBytes + heldBytes);
+    p.memoryUsedNow = Quantity.format(usedNow);
+    double before = plan.totalGcSecondsPerHour().current();
+    double after = plan.totalGcSecondsPerHour().proposed();
+    p.gcSecondsPerHourBefore = seconds(before);
+    p.gcSecondsPerHourAfter = seconds(after);
+    p.gcChange =
+        before > 0
+            ? String.format(Locale.ROOT, "%+.0f%%", PERCENT * (after - before) / before)
+            : "";
+    p.hash = hash(targets);
+    p.computedAt = now.toString();
+    return new Result(p, targets, plan);
+  }
+
+  /**
+   * The proposal to publish: the previous one while every workload's new heap is within {@code
+   * thresholdPercent} of it, so an approved hash survives the noise of fresh measurements.
+   */
+  public static HeapPoolStatus.Proposal sticky(
+      HeapPoolStatus.Proposal previous, HeapPoolStatus.Proposal fresh, long thresholdPercent) {
+    if (previous == null || previous.hash == null) {
+      return fresh;
+    }
+    Map<String, Long> old = heaps(previous);
+    Map<String, Long> now = heaps(fresh);
+    if (!old.keySet().equals(now.keySet())) {
+      return fresh;
+    }
+    for (var e : now.entrySet()) {
+      long was = old.get(e.getKey());
+      if (was <= 0 || PERCENT * Math.abs(e.getValue() - was) / was >= thresholdPercent) {
+        return fresh;
+      }
+    }
+    if (!sameHeld(previous, fresh)) {
+      return fresh;
+    }
+    return previous;
+  }
+
+  /** The targets a published proposal asks for. */
+  public static Map<String, Target> targets(HeapPoolStatus.Proposal p) {
+    Map<String, Target> out = new LinkedHashMap<>();
+    for (var w : p.workloads) {
+      out.put(
+          w.name,
+          new Target(Quantity.parseBytes(w.proposedHeap), Quantity.parseBytes(w.proposedLimit)));
+    }
+    return out;
+  }
+
+  /** A hash of exactly what would be applied: each workload's heap and limit. */
+  static String hash(Map<String, Target> targets) {
+    String canonical =
+        new TreeMap<>(targets)
+            .entrySet().stream()
+                .map(
+                    e ->
+                        e.getKey()
+                            + "="
+                            + e.getValue().heapBytes()
+                            + "/"
+                            + e.getValue().limitBytes())
+                .collect(Collectors.joining("\n"));
+    try {
+      byte[] digest =
+          MessageDigest.getInstance("SHA-256").digest(canonical.getBytes(StandardCharsets.UTF_8));
+      return HexFormat.of().formatHex(digest).substring(0, HASH_HEX);
+    } catch (NoSuchAlgorithmException e) {
+      throw new IllegalStateException("every JVM provides SHA-256", e);
+    }
+  }
+
+  private static Map<String, Long> heaps(HeapPoolStatus.Proposal p) {
+    Map<String, Long> out = new TreeMap<>();
+    p.workloads.forEach(w -> out.put(w.name, Quantity.parseBytes(w.proposedHeap)));
+    return out;
+  }
+
+  private static boolean sameHeld(HeapPoolStatus.Proposal a, HeapPoolStatus.Proposal b) {
+    Set<String> x = a.held.stream().map(h -> h.name).collect(Collectors.toSet());
+    Set<String> y = b.held.stream().map(h -> h.name).collect(Collectors.toSet());
+    return x.equals(y);
+  }
+
+  private static String seconds(double value) {
+    return String.format(Locale.ROOT, "%.1f", value);
+  }
+
+  private static Snapshot.Workload withReplicas(Snapshot.Workload m, int replicas) {
+    return new Snapshot.Workload(
+        m.name(),
+        m.kind(),
+        replicas,
+        m.collector(),
+        m.heapMaxBytes(),
+        m.liveBytes(),
+        m.gcSecondsPerSecond(),
+        m.youngGcSecondsPerSecond(),
+        m.offsetBytes(),
+        m.promotionBytesPerSecond(),
+        m.collectorBytesPerSecond(),
+        m.nonHeapBytes(),
+        m.evidence());
+  }
+
+  private static PoolFile withBudgetLess(PoolFile pool, long bytes) {
+    if (!(pool.objective() instanceof Objective.Budget b) || bytes == 0) {
+      return pool;
+    }
+    return new PoolFile(
+        pool.name(),
+        pool.namespace(),
+        pool.mode(),
+        new Objective.Budget(Math.max(1, b.bytes() - bytes)),
+        pool.matchLabels(),
+        pool.defaults(),
+        pool.overrides(),
+        pool.metrics(),
+        pool.rollout(),
+        pool.approvedProposal());
+  }
+}
