@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # Development entry point: `./dev.sh demo` plans the bundled example, `./dev.sh test` runs every
-# test (what CI runs), `./dev.sh bench` prints the engine's benchmark figures.
+# test (what CI runs), `./dev.sh bench` prints the engine's benchmark figures, `./dev.sh crds`
+# copies the CRD the build generated from the Java types into crds/.
 set -euo pipefail
 cd "$(dirname "$0")"
 
@@ -30,11 +31,16 @@ case "${1:-}" in
     need_prometheus
     mvn_batch verify
     ;;
+  crds)
+    mvn_batch -q -pl operator -DskipTests -Dspotless.check.skip=true process-classes
+    cp operator/target/classes/META-INF/fabric8/heappools.heapherd.dev-v1.yml crds/
+    echo "crds/heappools.heapherd.dev-v1.yml updated"
+    ;;
   bench)
     mvn_batch -q -Pbench -pl operator -DskipTests -Dspotless.check.skip=true verify
     ;;
   *)
-    echo "usage: ./dev.sh demo|test|bench" >&2
+    echo "usage: ./dev.sh demo|test|bench|crds" >&2
     exit 2
     ;;
 esac

@@ -2,6 +2,7 @@ package dev.heapherd.api;
 
 import com.fasterxml.jackson.annotation.JsonInclude;
 import com.fasterxml.jackson.annotation.JsonPropertyDescription;
+import io.fabric8.crd.generator.annotation.SchemaFrom;
 import io.fabric8.generator.annotation.Default;
 import io.fabric8.generator.annotation.Pattern;
 import io.fabric8.generator.annotation.Required;
@@ -18,7 +19,8 @@ public class HeapPoolSpec {
 
   @JsonPropertyDescription("DryRun publishes proposals and changes nothing; Apply rolls them out.")
   @Default("DryRun")
-  public Mode mode;
+  @SchemaFrom(type = Mode.class)
+  public String mode;
 
   @JsonPropertyDescription(
       "Container memory the selected workloads may use in all, e.g. 72Gi. Exclusive with prices.")
@@ -50,7 +52,11 @@ public class HeapPoolSpec {
   @Pattern(Patterns.HASH)
   public String approvedProposal;
 
-  /** Whether the operator may change workloads. */
+  /**
+   * Whether the operator may change workloads. Fields typed by an enum are strings in Java with the
+   * enum's schema: a value the schema would reject then reaches the reconciler as text and is
+   * reported in a condition, instead of failing to deserialise in the informer.
+   */
   public enum Mode {
     DryRun,
     Apply

@@ -3,6 +3,7 @@ package dev.heapherd.api;
 import com.fasterxml.jackson.annotation.JsonInclude;
 import com.fasterxml.jackson.annotation.JsonPropertyDescription;
 import dev.heapherd.input.PoolFileReader;
+import io.fabric8.crd.generator.annotation.SchemaFrom;
 import io.fabric8.generator.annotation.Max;
 import io.fabric8.generator.annotation.Min;
 import io.fabric8.generator.annotation.Pattern;
@@ -14,7 +15,8 @@ import java.util.List;
 public class MetricsSpec {
 
   @JsonPropertyDescription("How the JVMs export metrics: micrometer, client-java or otel.")
-  public Profile profile;
+  @SchemaFrom(type = Profile.class)
+  public String profile;
 
   @JsonPropertyDescription("Window in seconds that rates and sizes are computed over.")
   @Min(PoolFileReader.MIN_WINDOW_SECONDS)

@@ -3,6 +3,7 @@ package dev.heapherd.api;
 import com.fasterxml.jackson.annotation.JsonInclude;
 import com.fasterxml.jackson.annotation.JsonPropertyDescription;
 import dev.heapherd.input.PoolFileReader;
+import io.fabric8.crd.generator.annotation.SchemaFrom;
 import io.fabric8.generator.annotation.Max;
 import io.fabric8.generator.annotation.Min;
 import io.fabric8.generator.annotation.Pattern;
@@ -29,7 +30,8 @@ public class RolloutSpec {
   public Boolean setInitialHeap;
 
   @JsonPropertyDescription("Manual: apply only the approved proposal hash. Automatic: apply any.")
-  public Approval approval;
+  @SchemaFrom(type = Approval.class)
+  public String approval;
 
   @JsonPropertyDescription("Workloads of the pool that may roll at the same time.")
   @Min(1)

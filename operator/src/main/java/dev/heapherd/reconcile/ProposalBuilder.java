@@ -96,9 +96,20 @@ public final class ProposalBuilder {
         measured.stream()
             .mapToLong(m -> (long) m.replicas() * states.get(m.name()).otherContainersBytes())
             .sum();
-    PoolFile planned = withBudgetLess(pool, sidecarBytes);
     Snapshot input = new Snapshot(snapshot.capturedAt(), snapshot.windowSeconds(), measured, held);
-    PoolPlan plan = Planner.plan(planned, "spec", input, "metrics");
+    // Rolling updates run surge pods beside the old ones, so the steady state must leave room
+    // for the largest rollouts that may run at once. Plan once with today's limits, then again
+    // with the reserve the first answer's limits need.
+    long rolling = pool.rollout().maxRollingWorkloads();
+    long reserve = surgeReserve(states, Map.of(), rolling);
+    PoolPlan plan =
+        Planner.plan(withBudgetLess(pool, sidecarBytes + reserve), "spec", input, "metrics");
+    Map<String, Long> firstLimits = new LinkedHashMap<>();
+    plan.workloads().forEach(w -> firstLimits.put(w.workload().name(), w.limitBytes()));
+    long second = surgeReserve(states, firstLimits, rolling);
+    if (second > reserve) {
+      plan = Planner.plan(withBudgetLess(pool, sidecarBytes + second), "spec", input, "metrics");
+    }
 
     HeapPoolStatus.Proposal p = new HeapPoolStatus.Proposal();
     Map<String, Target> targets = new LinkedHashMap<>();
@@ -169,6 +180,29 @@ public final class ProposalBuilder {
       return fresh;
     }
     return previous;
+  }
+
+  /**
+   * Memory the surge pods of the {@code rolling} largest rollouts need: per workload its surge pods
+   * at the larger of today's pod limit and the planned one.
+   */
+  private static long surgeReserve(
+      Map<String, WorkloadState> states, Map<String, Long> plannedLimits, long rolling) {
+    return states.values().stream()
+        .mapToLong(
+            s -> {
+              Long planned = plannedLimits.get(s.name());
+              long podLimit =
+                  planned == null
+                      ? s.podLimitBytes()
+                      : Math.max(s.podLimitBytes(), planned + s.otherContainersBytes());
+              return (long) s.surgePods() * podLimit;
+            })
+        .boxed()
+        .sorted(java.util.Comparator.reverseOrder())
+        .limit(rolling)
+        .mapToLong(Long::longValue)
+        .sum();
   }
 
   /** The targets a published proposal asks for. */
