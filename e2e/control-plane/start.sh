@@ -144,13 +144,19 @@ await() {
 admin=(--cacert "$pki/ca.crt" --cert "$pki/admin.crt" --key "$pki/admin.key")
 
 # No fsync: the data lives only as long as one test run.
-launch etcd --data-dir "$state/etcd" --client-port "$etcd_port" --peer-port "$etcd_peer_port" --unsafe-no-fsync
-await etcd "http://127.0.0.1:$etcd_port/health"
+etcd_url="http://127.0.0.1:$etcd_port" etcd_peer_url="http://127.0.0.1:$etcd_peer_port"
+launch etcd --name heapherd --data-dir "$state/etcd" \
+  --listen-client-urls "$etcd_url" --advertise-client-urls "$etcd_url" \
+  --listen-peer-urls "$etcd_peer_url" --initial-advertise-peer-urls "$etcd_peer_url" \
+  --initial-cluster "heapherd=$etcd_peer_url" \
+  --unsafe-no-fsync
+await etcd "$etcd_url/health"
 
 # The lease endpoint reconciler would try to publish 127.0.0.1 as the endpoint of the
-# "kubernetes" service, which validation rejects (loopback), logging an error every 10 s.
+# "kubernetes" service, which validation rejects (loopback), logging an error every 10 s. With
+# "none" the apiserver logs one misleading "Found stale data" error at start instead.
 launch kube-apiserver \
-  --etcd-servers "http://127.0.0.1:$etcd_port" \
+  --etcd-servers "$etcd_url" \
   --bind-address 127.0.0.1 --advertise-address 127.0.0.1 --secure-port "$api_port" \
   --tls-cert-file "$pki/apiserver.crt" --tls-private-key-file "$pki/apiserver.key" \
   --client-ca-file "$pki/ca.crt" \
@@ -162,9 +168,12 @@ launch kube-apiserver \
   --endpoint-reconciler-type none
 await kube-apiserver "$server/readyz" "${admin[@]}"
 
+# Callers of its secure port are checked against our CA directly: looking the CA up in the
+# cluster would also expect front-proxy settings, which this control plane has no use for.
 launch kube-controller-manager \
   --kubeconfig "$state/kubeconfig" \
-  --authentication-kubeconfig "$state/kubeconfig" --authorization-kubeconfig "$state/kubeconfig" \
+  --client-ca-file "$pki/ca.crt" --authentication-skip-lookup \
+  --authorization-kubeconfig "$state/kubeconfig" \
   --bind-address 127.0.0.1 --secure-port "$kcm_port" \
   --leader-elect=false \
   --use-service-account-credentials=false \

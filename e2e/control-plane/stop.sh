@@ -14,7 +14,7 @@ state="$(cd "$1" && pwd)"
 # STATE_DIR in its arguments, so a pid the kernel has since reused for something else is skipped.
 ours() {
   local cmdline
-  cmdline="$(tr '\0' ' ' <"/proc/$1/cmdline" 2>/dev/null)" || return 1
+  cmdline="$(tr '\0' ' ' 2>/dev/null <"/proc/$1/cmdline")" || return 1
   [[ "$cmdline" == *"$state/"* ]]
 }
 

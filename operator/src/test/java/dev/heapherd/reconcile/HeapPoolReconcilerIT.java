@@ -13,11 +13,16 @@ import io.fabric8.kubernetes.api.model.apps.Deployment;
 import io.fabric8.kubernetes.client.KubernetesClient;
 import io.fabric8.kubernetes.client.server.mock.EnableKubernetesMockClient;
 import io.fabric8.kubernetes.client.server.mock.KubernetesMockServer;
+import io.fabric8.mockwebserver.http.RecordedRequest;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
+import java.util.Set;
+import java.util.TreeSet;
 import java.util.UUID;
+import java.util.concurrent.TimeUnit;
+import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.AfterEach;
 import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.Test;
@@ -54,6 +59,40 @@ class HeapPoolReconcilerIT {
             jvm("stock-ledger", 2, 1024, 300, 0.3),
             jvm("price-engine", 2, 512, 350, 9.0),
             jvm("basket-service", 2, 768, 400, 2.0)));
+  }
+
+  /**
+   * Every request the operator's own client sent during this class (the test's client sends with
+   * another user agent) is allowed by the chart's RBAC rules.
+   */
+  @AfterAll
+  static void everyApiCallIsCoveredByTheChartsRules() throws Exception {
+    Set<ApiCalls.Call> calls =
+        new TreeSet<>(java.util.Comparator.comparing(ApiCalls.Call::toString));
+    RecordedRequest r;
+    while ((r = server.takeRequest(1, TimeUnit.MILLISECONDS)) != null) {
+      if (OperatorHarness.USER_AGENT.equals(r.getHeader("User-Agent"))) {
+        calls.add(ApiCalls.of(r));
+      }
+    }
+    assertThat(calls)
+        .extracting(ApiCalls.Call::toString)
+        .contains(
+            "update apps/deployments",
+            "patch heapherd.dev/heappools/status",
+            "create core/events",
+            "watch core/pods",
+            "patch coordination.k8s.io/leases");
+    var rules = new java.util.ArrayList<>(ApiCalls.chartRules());
+    // Every authenticated user may review its own rights (the built-in system:basic-user role).
+    rules.add(
+        new ApiCalls.Rule(
+            List.of("authorization.k8s.io"),
+            List.of("selfsubjectrulesreviews"),
+            List.of("create")));
+    assertThat(calls)
+        .as("helm/heapherd/files/operator-rules.yaml must allow every call")
+        .allSatisfy(c -> assertThat(rules).anyMatch(rule -> rule.allows(c)));
   }
 
   @AfterEach

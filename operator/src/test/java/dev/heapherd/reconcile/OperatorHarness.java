@@ -4,17 +4,18 @@ import dev.heapherd.api.HeapPool;
 import io.fabric8.kubernetes.api.model.apiextensions.v1.CustomResourceDefinition;
 import io.fabric8.kubernetes.api.model.apps.Deployment;
 import io.fabric8.kubernetes.api.model.apps.DeploymentBuilder;
+import io.fabric8.kubernetes.api.model.authorization.v1.SelfSubjectRulesReviewBuilder;
 import io.fabric8.kubernetes.client.KubernetesClient;
 import io.fabric8.kubernetes.client.server.mock.KubernetesMockServer;
 import io.fabric8.kubernetes.client.utils.Serialization;
-import io.javaoperatorsdk.operator.Operator;
 import io.micrometer.core.instrument.simple.SimpleMeterRegistry;
 import java.io.IOException;
 import java.io.InputStream;
 import java.nio.file.Files;
 import java.nio.file.Path;
-import java.time.Clock;
 import java.util.Map;
+import java.util.Optional;
+import java.util.Set;
 
 /** Runs the operator against a mock API server with a client of its own, as in production. */
 final class OperatorHarness implements AutoCloseable {
@@ -22,27 +23,50 @@ final class OperatorHarness implements AutoCloseable {
   /** The user agent of the operator's client, to tell its requests from the test's. */
   static final String USER_AGENT = "heapherd-under-test";
 
+  private static final int HTTP_CREATED = 201;
+
   final KubernetesClient client;
   final SimpleMeterRegistry registry = new SimpleMeterRegistry();
-  private final Operator operator;
+  private final OperatorRuntime operator;
 
   OperatorHarness(KubernetesMockServer server, MetricsSource metrics) {
+    // Leader election first asks which Lease verbs it has; the mock server cannot answer that
+    // review, so answer it as a real server would for the chart's role.
+    server
+        .expect()
+        .post()
+        .withPath("/apis/authorization.k8s.io/v1/selfsubjectrulesreviews")
+        .andReturn(
+            HTTP_CREATED,
+            new SelfSubjectRulesReviewBuilder()
+                .withNewMetadata()
+                .endMetadata()
+                .withNewStatus()
+                .addNewResourceRule()
+                .withApiGroups("coordination.k8s.io")
+                .withResources("leases")
+                .withVerbs("get", "create", "update", "patch")
+                .endResourceRule()
+                .withIncomplete(false)
+                .endStatus()
+                .build())
+        .always();
     client = server.createClient(b -> b.editOrNewConfig().withUserAgent(USER_AGENT).endConfig());
     operator =
-        new Operator(
-            o ->
-                o.withKubernetesClient(client)
-                    // The mock server has no server-side apply; status is patched by JSON merge.
-                    .withUseSSAToPatchPrimaryResource(false)
-                    .withCloseClientOnStop(true));
-    operator.register(
-        new HeapPoolReconciler(metrics, Clock.systemUTC(), new OperatorMetrics(registry)));
-    operator.start();
+        OperatorRuntime.start(
+            client,
+            metrics,
+            registry,
+            new OperatorRuntime.Settings(
+                Set.of(),
+                // A Lease of its own, so a stopped operator's unexpired Lease never delays it.
+                Optional.of("heapherd-" + java.util.UUID.randomUUID().toString().substring(0, 8)),
+                false));
   }
 
   @Override
   public void close() {
-    operator.stop();
+    operator.close();
   }
 
   /** Registers the generated HeapPool CRD with the mock server. */
