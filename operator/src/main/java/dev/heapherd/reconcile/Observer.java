@@ -84,11 +84,10 @@ public final class Observer {
         c.getEnv()
             .forEach(e -> text.append(e.getName()).append('=').append(e.getValue()).append(';'));
       }
+      // No resources and empty ones read alike: the API server returns "resources: {}" for both.
       var resources = c.getResources();
-      if (resources != null) {
-        text.append('|').append(bytes(resources.getLimits())).append('|');
-        text.append(bytes(resources.getRequests()));
-      }
+      text.append('|').append(resources == null ? "" : bytes(resources.getLimits())).append('|');
+      text.append(resources == null ? "" : bytes(resources.getRequests()));
       text.append('\n');
     }
     try {

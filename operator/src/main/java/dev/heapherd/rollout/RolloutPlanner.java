@@ -7,6 +7,7 @@ import java.time.Instant;
 import java.util.ArrayList;
 import java.util.Comparator;
 import java.util.List;
+import java.util.Locale;
 import java.util.Map;
 import java.util.OptionalLong;
 
@@ -176,8 +177,10 @@ public final class RolloutPlanner {
           w,
           Rail.BelowThreshold,
           String.format(
+              Locale.ROOT,
               "a %.1f%% heap change is below the %d%% threshold",
-              change, gates.changeThresholdPercent()));
+              change,
+              gates.changeThresholdPercent()));
     }
     if (w.lastChangedAt().isPresent()) {
       Instant free = w.lastChangedAt().get().plusSeconds(gates.cooldownSeconds());
