@@ -7,6 +7,7 @@ import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Snapshot;
 import dev.heapherd.rollout.PodTemplates;
 import dev.heapherd.rollout.RolloutPlanner;
+import dev.heapherd.rollout.RolloutRecord;
 import dev.heapherd.rollout.RolloutStep;
 import dev.heapherd.rollout.WorkloadState;
 import io.fabric8.kubernetes.api.model.HasMetadata;
@@ -201,12 +202,13 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
       meters.step(v.namespace(), pool, "started");
     } else if (step instanceof RolloutStep.Finish) {
       HasMetadata written = writer.finish(w, v.now());
+      boolean back = state.inFlight().map(RolloutRecord::rollingBack).orElse(false);
       v.act(
           written,
-          "RolloutFinished",
+          back ? "RollbackFinished" : "RolloutFinished",
           state.heapBytes(),
           state.heapBytes(),
-          "every pod runs the new heap");
+          back ? "every pod runs the previous values again" : "every pod runs the new heap");
       meters.step(v.namespace(), pool, "finished");
     } else if (step instanceof RolloutStep.RollBack r) {
       var record = state.inFlight().orElseThrow();

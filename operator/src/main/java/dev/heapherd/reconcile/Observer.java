@@ -48,7 +48,9 @@ public final class Observer {
     Optional<RolloutRecord> inFlight =
         RolloutRecord.fromJson(w.annotations().get(Annotations.ROLLOUT));
     Optional<String> failure =
-        inFlight.isPresent() ? failure(w, pods, m, rollout.jvmOptionsVariable()) : Optional.empty();
+        inFlight.isPresent() && !inFlight.get().rollingBack()
+            ? failure(w, pods, m, rollout.jvmOptionsVariable())
+            : Optional.empty();
     return new WorkloadState(
         w.name(),
         w.replicas(),

@@ -37,7 +37,8 @@ final class RolloutWriter {
             before.jvmOptions(),
             step.heapBytes(),
             step.limitBytes(),
-            now.toString());
+            now.toString(),
+            false);
     var template =
         PodTemplates.resized(
             w.template(),
@@ -61,14 +62,18 @@ final class RolloutWriter {
     return update(w.with(w.template(), annotations));
   }
 
-  /** Writes the saved values back and marks the workload so it is not retried unchanged. */
+  /**
+   * Writes the saved values back and marks the workload so it is not retried unchanged. The record
+   * stays, marked as rolling back, so the pods returning to the old sizes count against the budget
+   * until that rollout finishes.
+   */
   HasMetadata rollBack(
       PoolWorkload w, RolloutRecord record, PoolFile.Rollout rollout, Instant now) {
     var template =
         PodTemplates.restored(
             w.template(), rollout.containerName(), rollout.jvmOptionsVariable(), record);
     Map<String, String> annotations = new HashMap<>(w.annotations());
-    annotations.remove(Annotations.ROLLOUT);
+    annotations.put(Annotations.ROLLOUT, record.rolledBack().toJson());
     annotations.put(Annotations.CHANGED_AT, now.toString());
     annotations.put(Annotations.ROLLED_BACK, Observer.fingerprint(template));
     return update(w.with(template, annotations));

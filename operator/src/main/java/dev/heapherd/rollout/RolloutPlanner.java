@@ -62,7 +62,14 @@ public final class RolloutPlanner {
         continue;
       }
       RolloutRecord r = w.inFlight().get();
-      if (w.failure().isPresent()) {
+      if (r.rollingBack()) {
+        // Pods return to the previous values; a failure now is not heapherd's change failing.
+        if (w.rolloutDone()) {
+          steps.add(new RolloutStep.Finish(w.name()));
+        } else {
+          rolling++;
+        }
+      } else if (w.failure().isPresent()) {
         steps.add(new RolloutStep.RollBack(w.name(), w.failure().get()));
       } else if (w.rolloutDone()) {
         steps.add(new RolloutStep.Finish(w.name()));
@@ -107,7 +114,7 @@ public final class RolloutPlanner {
                 "waits: " + rolling + " of at most " + gates.maxRollingWorkloads() + " rolling"));
         continue;
       }
-      long next = committed - w.steadyBytes() + w.rollingBytes(c.newPodLimitBytes());
+      long next = committed - committedBytes(w) + w.rollingBytes(c.newPodLimitBytes());
       if (gates.budgetBytes().isPresent() && next > gates.budgetBytes().getAsLong()) {
         steps.add(
             hold(
@@ -129,13 +136,21 @@ public final class RolloutPlanner {
     return steps;
   }
 
-  /** Memory a workload may hold at any moment now: its steady pods, or its rollout's peak. */
+  /**
+   * Memory a workload may hold at any moment now: its steady pods, or, while a rollout runs (its
+   * own, a rollback, or one someone else started), every pod and surge pod at the largest limit
+   * involved.
+   */
   public static long committedBytes(WorkloadState w) {
     if (w.inFlight().isEmpty()) {
-      return w.steadyBytes();
+      return w.rolloutDone() ? w.steadyBytes() : w.rollingBytes(w.podLimitBytes());
     }
-    long previous = previousLimitBytes(w, w.inFlight().get());
-    return (long) (w.replicas() + w.surgePods()) * Math.max(previous, w.podLimitBytes());
+    RolloutRecord r = w.inFlight().get();
+    long peak =
+        Math.max(
+            Math.max(previousLimitBytes(w, r), r.targetLimitBytes() + w.otherContainersBytes()),
+            w.podLimitBytes());
+    return (long) (w.replicas() + w.surgePods()) * peak;
   }
 
   /** The pod limit before heapherd's change; unknown or unset counts as the current one. */

@@ -17,6 +17,7 @@ import java.util.Optional;
  * @param targetHeapBytes the heap written
  * @param targetLimitBytes the limit written
  * @param startedAt when the change was written, RFC 3339
+ * @param rollingBack the previous values were written back and their rollout has not finished
  */
 @JsonInclude(JsonInclude.Include.NON_NULL)
 public record RolloutRecord(
@@ -26,7 +27,21 @@ public record RolloutRecord(
     String previousJvmOptions,
     long targetHeapBytes,
     long targetLimitBytes,
-    String startedAt) {
+    String startedAt,
+    boolean rollingBack) {
+
+  /** This record after the previous values were written back. */
+  public RolloutRecord rolledBack() {
+    return new RolloutRecord(
+        proposalHash,
+        previousLimit,
+        previousRequest,
+        previousJvmOptions,
+        targetHeapBytes,
+        targetLimitBytes,
+        startedAt,
+        true);
+  }
 
   private static final ObjectMapper JSON =
       new ObjectMapper().disable(DeserializationFeature.FAIL_ON_UNKNOWN_PROPERTIES);

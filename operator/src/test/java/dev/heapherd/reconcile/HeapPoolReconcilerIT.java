@@ -192,9 +192,14 @@ class HeapPoolReconcilerIT {
         .atMost(WAIT)
         .until(
             () ->
-                !deployment(name).getMetadata().getAnnotations().containsKey(Annotations.ROLLOUT));
+                deployment(name)
+                    .getMetadata()
+                    .getAnnotations()
+                    .containsKey(Annotations.ROLLED_BACK));
     Deployment restored = deployment(name);
-    assertThat(restored.getMetadata().getAnnotations()).containsKey(Annotations.ROLLED_BACK);
+    // The record stays, marked, while the pods return to the previous values.
+    assertThat(restored.getMetadata().getAnnotations().get(Annotations.ROLLOUT))
+        .contains("\"rollingBack\":true");
     String options =
         restored
             .getSpec()
@@ -210,9 +215,16 @@ class HeapPoolReconcilerIT {
     controller.settle(name);
     await()
         .atMost(WAIT)
+        .until(
+            () ->
+                !deployment(name).getMetadata().getAnnotations().containsKey(Annotations.ROLLOUT));
+    await()
+        .atMost(WAIT)
         .until(() -> pool().getStatus().proposal.held.stream().anyMatch(h -> h.name.equals(name)));
-    assertThat(deployment(name).getMetadata().getAnnotations())
-        .doesNotContainKey(Annotations.ROLLOUT);
+    assertThat(pool().getStatus().history)
+        .extracting(a -> a.action)
+        .contains("RolloutRolledBack", "RollbackFinished");
+    assertThat(rolling()).as("the rolled-back workload is not retried").doesNotContain(name);
   }
 
   @Test

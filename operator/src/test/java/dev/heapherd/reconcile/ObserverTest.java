@@ -49,7 +49,8 @@ class ObserverTest {
           OLD_OPTIONS,
           768 * MIB,
           1024 * MIB,
-          "2025-03-04T10:00:00Z");
+          "2025-03-04T10:00:00Z",
+          false);
 
   private static PodTemplateSpec template(String options, String appLimit) {
     return new PodTemplateSpecBuilder()

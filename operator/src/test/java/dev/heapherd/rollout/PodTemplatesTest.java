@@ -403,6 +403,7 @@ class PodTemplatesTest {
         m.jvmOptions(),
         1280 * MIB,
         1536 * MIB,
-        "2025-03-04T10:00:00Z");
+        "2025-03-04T10:00:00Z",
+        false);
   }
 }

@@ -122,13 +122,21 @@ class RolloutPlannerTest {
               previousOptions,
               heapMib * MIB,
               limitMib * MIB,
-              NOW.minusSeconds(120).toString());
+              NOW.minusSeconds(120).toString(),
+              false);
       this.done = false;
       return this;
     }
 
     Service done() {
       this.done = true;
+      return this;
+    }
+
+    /** heapherd wrote the previous values back; their rollout runs. */
+    Service rollingBack() {
+      this.inFlight = inFlight.rolledBack();
+      this.done = false;
       return this;
     }
 
@@ -268,6 +276,50 @@ class RolloutPlannerTest {
 
     assertThat(decide(List.of(quoteApi), Map.of(), rails()))
         .containsExactly(new Finish("quote-api"));
+  }
+
+  @Test
+  void aRollbackThatIsStillRollingIgnoresFailuresAndFillsASlot() {
+    Service quoteApi =
+        service("quote-api")
+            .rollingFrom("1280Mi", "-Xmx1g")
+            .rollingBack()
+            .failing("pod quote-api-6b7f9-x2k4q was OOMKilled");
+    Service routePlanner = service("route-planner").limit(2048).heap(1536);
+
+    assertThat(
+            decide(
+                List.of(quoteApi, routePlanner),
+                Map.of("route-planner", target(1024, 1536)),
+                rails().maxRolling(1)))
+        .singleElement()
+        .isInstanceOf(RolloutStep.Hold.class)
+        .extracting(h -> ((RolloutStep.Hold) h).rail())
+        .isEqualTo(RolloutStep.Rail.RollingLimit);
+  }
+
+  @Test
+  void aFinishedRollbackFinishes() {
+    Service quoteApi = service("quote-api").rollingFrom("1280Mi", "-Xmx1g").rollingBack().done();
+
+    assertThat(decide(List.of(quoteApi), Map.of(), rails()))
+        .containsExactly(new Finish("quote-api"));
+  }
+
+  @Test
+  void aRollbackCountsTheLargerOfBothLimitsForEveryPodAndSurgePod() {
+    // Back from 1024Mi to 1280Mi: 4 pods and 1 surge pod at 1280Mi.
+    Service quoteApi = service("quote-api").rollingFrom("1280Mi", "-Xmx1g").rollingBack();
+
+    assertThat(RolloutPlanner.committedBytes(quoteApi.state())).isEqualTo(5 * 1280 * MIB);
+  }
+
+  @Test
+  void aRolloutSomeoneElseStartedCountsItsSurgePods() {
+    Service quoteApi = service("quote-api");
+    quoteApi.done = false;
+
+    assertThat(RolloutPlanner.committedBytes(quoteApi.state())).isEqualTo(5 * 1024 * MIB);
   }
 
   @Test
