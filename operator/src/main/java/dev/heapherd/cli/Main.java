@@ -9,7 +9,7 @@ import picocli.CommandLine.Command;
     mixinStandardHelpOptions = true,
     versionProvider = Main.Version.class,
     description = "Divides a memory budget among JVM workloads and sizes their heaps and limits.",
-    subcommands = {PlanCommand.class, SnapshotCommand.class})
+    subcommands = {PlanCommand.class, SnapshotCommand.class, OperatorCommand.class})
 public final class Main implements Runnable {
 
   /** Exit code for bad input: usage errors and invalid files alike. */

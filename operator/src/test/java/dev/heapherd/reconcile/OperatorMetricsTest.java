@@ -1,0 +1,65 @@
+package dev.heapherd.reconcile;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import io.micrometer.core.instrument.simple.SimpleMeterRegistry;
+import java.time.Duration;
+import org.junit.jupiter.api.Test;
+
+/** heapherd's own meters: names, tags, units and values. */
+class OperatorMetricsTest {
+
+  private final SimpleMeterRegistry registry = new SimpleMeterRegistry();
+  private final OperatorMetrics metrics = new OperatorMetrics(registry);
+
+  @Test
+  void heapsArePerWorkloadGaugesInBytes() {
+    metrics.heap("larkspur", "orders", "price-engine", 512L << 20, 900L << 20);
+    metrics.heap("larkspur", "orders", "price-engine", 600L << 20, 900L << 20);
+
+    var current =
+        registry.get("heapherd.workload.heap.current").tag("workload", "price-engine").gauge();
+    assertThat(current.value()).isEqualTo(600L << 20);
+    assertThat(current.getId().getBaseUnit()).isEqualTo("bytes");
+    assertThat(current.getId().getDescription()).isNotBlank();
+    assertThat(current.getId().getTag("pool")).isEqualTo("orders");
+    assertThat(current.getId().getTag("namespace")).isEqualTo("larkspur");
+    assertThat(
+            registry
+                .get("heapherd.workload.heap.proposed")
+                .tag("workload", "price-engine")
+                .gauge()
+                .value())
+        .isEqualTo(900L << 20);
+  }
+
+  @Test
+  void predictedGcIsInSecondsPerHour() {
+    metrics.predictedGc("larkspur", "orders", 120.5, 80.25);
+
+    var now = registry.get("heapherd.pool.gc.predicted.current").gauge();
+    assertThat(now.value()).isEqualTo(120.5);
+    assertThat(now.getId().getBaseUnit()).isEqualTo("seconds");
+    assertThat(registry.get("heapherd.pool.gc.predicted.proposed").gauge().value())
+        .isEqualTo(80.25);
+  }
+
+  @Test
+  void stepsRailsAndReconcilesAreCounted() {
+    metrics.step("larkspur", "orders", "started");
+    metrics.step("larkspur", "orders", "started");
+    metrics.step("larkspur", "orders", "rolledBack");
+    metrics.railTripped("larkspur", "orders", "Budget");
+    metrics.reconciled("larkspur", "orders", Duration.ofMillis(40));
+
+    assertThat(registry.get("heapherd.rollout.steps").tag("step", "started").counter().count())
+        .isEqualTo(2);
+    assertThat(registry.get("heapherd.rollout.steps").tag("step", "rolledBack").counter().count())
+        .isEqualTo(1);
+    assertThat(registry.get("heapherd.rails.tripped").tag("rail", "Budget").counter().count())
+        .isEqualTo(1);
+    var timer = registry.get("heapherd.reconcile.duration").timer();
+    assertThat(timer.count()).isEqualTo(1);
+    assertThat(timer.totalTime(java.util.concurrent.TimeUnit.MILLISECONDS)).isEqualTo(40);
+  }
+}
