@@ -1,0 +1,90 @@
+package dev.heapherd.cluster;
+
+import io.fabric8.kubernetes.client.Config;
+import io.fabric8.kubernetes.client.KubernetesClient;
+import io.fabric8.kubernetes.client.KubernetesClientBuilder;
+import java.io.IOException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.List;
+import java.util.concurrent.TimeUnit;
+
+/**
+ * A real etcd, kube-apiserver and kube-controller-manager on 127.0.0.1, built from their Go modules
+ * by e2e/control-plane and started and stopped by its scripts (which stop exactly the processes
+ * they started, by pid).
+ */
+public final class ControlPlane implements AutoCloseable {
+
+  /** Start-up includes certificate generation and, on a cold machine, nothing else: build first. */
+  private static final long START_TIMEOUT_SECONDS = 180;
+
+  private static final long STOP_TIMEOUT_SECONDS = 60;
+
+  private final Path scripts;
+  private final Path state;
+  private final Path kubeconfig;
+
+  private ControlPlane(Path scripts, Path state, Path kubeconfig) {
+    this.scripts = scripts;
+    this.state = state;
+    this.kubeconfig = kubeconfig;
+  }
+
+  /** The scripts' folder, from {@code heapherd.control-plane.dir} or the repository layout. */
+  public static Path scripts() {
+    return Path.of(System.getProperty("heapherd.control-plane.dir", "../e2e/control-plane"))
+        .toAbsolutePath()
+        .normalize();
+  }
+
+  /** Starts a control plane with its state in a fresh temporary folder. */
+  public static ControlPlane start() throws IOException, InterruptedException {
+    Path state = Files.createTempDirectory("heapherd-control-plane");
+    Path log = state.resolve("start.out");
+    Process p =
+        new ProcessBuilder(
+                List.of("bash", scripts().resolve("start.sh").toString(), state.toString()))
+            .redirectErrorStream(true)
+            .redirectOutput(log.toFile())
+            .start();
+    if (!p.waitFor(START_TIMEOUT_SECONDS, TimeUnit.SECONDS) || p.exitValue() != 0) {
+      p.destroyForcibly();
+      String out = Files.readString(log, StandardCharsets.UTF_8);
+      stop(state);
+      throw new IllegalStateException("control plane did not start:\n" + out);
+    }
+    return new ControlPlane(scripts(), state, state.resolve("kubeconfig"));
+  }
+
+  /** The admin kubeconfig. */
+  public Path kubeconfig() {
+    return kubeconfig;
+  }
+
+  /** A client with admin rights. */
+  public KubernetesClient client() throws IOException {
+    return new KubernetesClientBuilder()
+        .withConfig(Config.fromKubeconfig(Files.readString(kubeconfig)))
+        .build();
+  }
+
+  @Override
+  public void close() throws IOException, InterruptedException {
+    stop(state);
+  }
+
+  private static void stop(Path state) throws IOException, InterruptedException {
+    Process p =
+        new ProcessBuilder(
+                List.of("bash", scripts().resolve("stop.sh").toString(), state.toString()))
+            .redirectErrorStream(true)
+            .redirectOutput(state.resolve("stop.out").toFile())
+            .start();
+    if (!p.waitFor(STOP_TIMEOUT_SECONDS, TimeUnit.SECONDS) || p.exitValue() != 0) {
+      throw new IllegalStateException(
+          "control plane did not stop cleanly:\n" + Files.readString(state.resolve("stop.out")));
+    }
+  }
+}
