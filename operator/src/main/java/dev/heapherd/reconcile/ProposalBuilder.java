@@ -62,6 +62,25 @@ public final class ProposalBuilder {
       Snapshot snapshot,
       Instant now)
       throws InputException {
+    return build(pool, "spec", states, kinds, snapshot, "metrics", now);
+  }
+
+  /**
+   * {@link #build(PoolFile, Map, Map, Snapshot, Instant)} for a pool and metrics read from files,
+   * which errors then name.
+   *
+   * @param poolSource names the pool in errors
+   * @param snapshotSource names the metrics in errors
+   */
+  public static Result build(
+      PoolFile pool,
+      String poolSource,
+      Map<String, WorkloadState> states,
+      Map<String, String> kinds,
+      Snapshot snapshot,
+      String snapshotSource,
+      Instant now)
+      throws InputException {
     Map<String, String> heldReasons = new TreeMap<>();
     snapshot.held().stream()
         .filter(h -> states.containsKey(h.name()))
@@ -98,7 +117,7 @@ public final class ProposalBuilder {
             .sum();
     PoolFile planned = withBudgetLess(pool, sidecarBytes);
     Snapshot input = new Snapshot(snapshot.capturedAt(), snapshot.windowSeconds(), measured, held);
-    PoolPlan plan = Planner.plan(planned, "spec", input, "metrics");
+    PoolPlan plan = Planner.plan(planned, poolSource, input, snapshotSource);
 
     HeapPoolStatus.Proposal p = new HeapPoolStatus.Proposal();
     Map<String, Target> targets = new LinkedHashMap<>();
