@@ -9,11 +9,22 @@ import picocli.CommandLine.Command;
     mixinStandardHelpOptions = true,
     versionProvider = Main.Version.class,
     description = "Divides a memory budget among JVM workloads and sizes their heaps and limits.",
-    subcommands = {PlanCommand.class, SnapshotCommand.class, OperatorCommand.class})
+    subcommands = {
+      PlanCommand.class,
+      SnapshotCommand.class,
+      RenderCommand.class,
+      OperatorCommand.class
+    })
 public final class Main implements Runnable {
 
   /** Exit code for bad input: usage errors and invalid files alike. */
   public static final int EXIT_BAD_INPUT = 2;
+
+  /**
+   * Exit code of render when it changed manifests (with --check: would change them), so a pipeline
+   * can tell "changes to review" from "nothing to do" (0) and from failures (1, 2).
+   */
+  public static final int EXIT_CHANGES = 3;
 
   /** Exit code when no workload could be measured well enough (all held, reasons on stderr). */
   public static final int EXIT_NOTHING_MEASURED = 4;

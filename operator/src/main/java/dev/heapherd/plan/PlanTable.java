@@ -106,8 +106,9 @@ public final class PlanTable {
     return out.toString();
   }
 
-  private static void appendColumns(StringBuilder out, List<String[]> rows) {
-    int[] widths = new int[HEADER.length];
+  /** Appends {@code rows}, the first being the header, as left-aligned columns. */
+  public static void appendColumns(StringBuilder out, List<String[]> rows) {
+    int[] widths = new int[rows.get(0).length];
     for (String[] row : rows) {
       for (int i = 0; i < row.length; i++) {
         widths[i] = Math.max(widths[i], row[i].length());

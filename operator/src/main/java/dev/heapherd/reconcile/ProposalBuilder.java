@@ -62,6 +62,28 @@ public final class ProposalBuilder {
       Snapshot snapshot,
       Instant now)
       throws InputException {
+    return build(pool, "spec", states, kinds, snapshot, "metrics", now, true);
+  }
+
+  /**
+   * {@link #build(PoolFile, Map, Map, Snapshot, Instant)} for a pool and metrics read from files,
+   * which errors then name.
+   *
+   * @param poolSource names the pool in errors
+   * @param snapshotSource names the metrics in errors
+   * @param reserveSurge leave room in the budget for the surge pods of the largest rollouts the
+   *     operator runs at once; off when something else (a pipeline) paces the rollouts
+   */
+  public static Result build(
+      PoolFile pool,
+      String poolSource,
+      Map<String, WorkloadState> states,
+      Map<String, String> kinds,
+      Snapshot snapshot,
+      String snapshotSource,
+      Instant now,
+      boolean reserveSurge)
+      throws InputException {
     Map<String, String> heldReasons = new TreeMap<>();
     snapshot.held().stream()
         .filter(h -> states.containsKey(h.name()))
@@ -100,15 +122,18 @@ public final class ProposalBuilder {
     // Rolling updates run surge pods beside the old ones, so the steady state must leave room
     // for the largest rollouts that may run at once. Plan once with today's limits, then again
     // with the reserve the first answer's limits need.
-    long rolling = pool.rollout().maxRollingWorkloads();
+    long rolling = reserveSurge ? pool.rollout().maxRollingWorkloads() : 0;
     long reserve = surgeReserve(states, Map.of(), rolling);
     PoolPlan plan =
-        Planner.plan(withBudgetLess(pool, sidecarBytes + reserve), "spec", input, "metrics");
+        Planner.plan(
+            withBudgetLess(pool, sidecarBytes + reserve), poolSource, input, snapshotSource);
     Map<String, Long> firstLimits = new LinkedHashMap<>();
     plan.workloads().forEach(w -> firstLimits.put(w.workload().name(), w.limitBytes()));
     long second = surgeReserve(states, firstLimits, rolling);
     if (second > reserve) {
-      plan = Planner.plan(withBudgetLess(pool, sidecarBytes + second), "spec", input, "metrics");
+      plan =
+          Planner.plan(
+              withBudgetLess(pool, sidecarBytes + second), poolSource, input, snapshotSource);
     }
 
     HeapPoolStatus.Proposal p = new HeapPoolStatus.Proposal();

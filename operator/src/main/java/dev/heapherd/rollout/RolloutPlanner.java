@@ -153,6 +153,16 @@ public final class RolloutPlanner {
     return (long) (w.replicas() + w.surgePods()) * peak;
   }
 
+  /**
+   * How far {@code t} moves the workload's heap, in percent of the heap now; infinite when the
+   * template sets no heap, so that a first -Xmx is never skipped as a small change.
+   */
+  public static double heapChangePercent(WorkloadState w, Target t) {
+    return w.heapBytes() == 0
+        ? Double.POSITIVE_INFINITY
+        : PERCENT * Math.abs(t.heapBytes() - w.heapBytes()) / w.heapBytes();
+  }
+
   /** The pod limit before heapherd's change; unknown or unset counts as the current one. */
   private static long previousLimitBytes(WorkloadState w, RolloutRecord r) {
     if (r.previousLimit() == null) {
@@ -183,10 +193,7 @@ public final class RolloutPlanner {
     if (gates.frozen()) {
       return hold(w, Rail.Frozen, "a freeze window is open");
     }
-    double change =
-        w.heapBytes() == 0
-            ? Double.POSITIVE_INFINITY
-            : PERCENT * Math.abs(t.heapBytes() - w.heapBytes()) / w.heapBytes();
+    double change = heapChangePercent(w, t);
     if (change < gates.changeThresholdPercent()) {
       return hold(
           w,

@@ -14,7 +14,7 @@ class SnapshotCommandTest {
   private static final Path POOL = Path.of("..", "docs", "examples", "pool.yaml");
 
   /** A loopback port nobody listens on: bound, read, released. */
-  private static String deadPrometheus() throws IOException {
+  static String deadPrometheus() throws IOException {
     try (ServerSocket socket = new ServerSocket(0, 1, InetAddress.getLoopbackAddress())) {
       return "http://127.0.0.1:" + socket.getLocalPort();
     }

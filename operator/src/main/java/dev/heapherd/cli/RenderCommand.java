@@ -1,0 +1,148 @@
+package dev.heapherd.cli;
+
+import dev.heapherd.input.InputException;
+import dev.heapherd.input.PoolFile;
+import dev.heapherd.input.PoolFileReader;
+import dev.heapherd.input.Snapshot;
+import dev.heapherd.input.SnapshotReader;
+import dev.heapherd.render.ManifestFile;
+import dev.heapherd.render.ManifestFolder;
+import dev.heapherd.render.RenderReport;
+import dev.heapherd.render.Renderer;
+import java.io.IOException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.Arrays;
+import java.util.List;
+import java.util.concurrent.Callable;
+import picocli.CommandLine;
+import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
+import picocli.CommandLine.Option;
+
+/** {@code render}: writes a pool's proposed heaps and limits into a folder of manifests. */
+@Command(
+    name = "render",
+    mixinStandardHelpOptions = true,
+    description =
+        "Write a pool's proposed heaps and memory limits into Kubernetes manifests, for GitOps."
+            + " Exit 0: nothing changed; 3: changes written (with --check: would be).")
+final class RenderCommand implements Callable<Integer> {
+
+  @Option(names = "--pool", required = true, description = "HeapPool YAML file.")
+  Path pool;
+
+  @Option(names = "--snapshot", description = "Metrics snapshot (YAML or JSON).")
+  Path snapshot;
+
+  @Mixin MetricsOptions metrics;
+
+  @Option(
+      names = "--manifests",
+      required = true,
+      description = "Folder of manifests (*.yaml, *.yml, *.json), read recursively.")
+  Path manifests;
+
+  @Option(
+      names = {"-o", "--output"},
+      description = "Folder to write a copy of the manifests to (default: change them in place).")
+  Path output;
+
+  @Option(names = "--check", description = "Write nothing; only report and set the exit code.")
+  boolean check;
+
+  @CommandLine.Spec CommandLine.Model.CommandSpec spec;
+
+  @Override
+  public Integer call() {
+    Renderer.Outcome outcome;
+    PoolFile poolFile;
+    String namespace;
+    try {
+      if ((snapshot == null) == (metrics.prometheus == null)) {
+        throw new InputException("render", "", "give exactly one of --snapshot or --prometheus");
+      }
+      if (output != null) {
+        checkApart(manifests, output);
+      }
+      poolFile = PoolFileReader.read(pool);
+      List<String> files = ManifestFolder.files(manifests);
+      List<ManifestFile> read = ManifestFolder.read(manifests, files);
+      namespace = metrics.namespace != null ? metrics.namespace : poolFile.namespace();
+      Snapshot measured =
+          snapshot != null ? SnapshotReader.read(snapshot) : metrics.measure(poolFile);
+      String source = snapshot != null ? snapshot.toString() : metrics.prometheus.toString();
+      outcome =
+          Renderer.render(
+              poolFile, pool.toString(), measured, source, namespace, manifests.toString(), read);
+      if (!check) {
+        write(files, outcome);
+      }
+    } catch (InputException e) {
+      spec.commandLine().getErr().println("heapherd: " + e.getMessage());
+      return Main.EXIT_BAD_INPUT;
+    }
+    Path target = output != null ? output : manifests;
+    spec.commandLine()
+        .getOut()
+        .print(RenderReport.text(outcome, poolFile.name(), namespace, target, check));
+    spec.commandLine().getOut().flush();
+    return outcome.changes().isEmpty() ? 0 : Main.EXIT_CHANGES;
+  }
+
+  /** A folder inside the other would read its own output on the next run, or copy into itself. */
+  private static void checkApart(Path manifests, Path output) throws InputException {
+    Path in = manifests.toAbsolutePath().normalize();
+    Path out = output.toAbsolutePath().normalize();
+    if (in.startsWith(out) || out.startsWith(in)) {
+      throw new InputException(
+          "--output",
+          "",
+          output
+              + " overlaps --manifests "
+              + manifests
+              + "; give a folder outside it, or leave --output out to change files in place");
+    }
+  }
+
+  /**
+   * In place: the changed files. With --output: every file, so the copy is complete; files already
+   * equal are left alone, so a second run into the same folder touches nothing.
+   */
+  private void write(List<String> files, Renderer.Outcome outcome) throws InputException {
+    for (ManifestFile f : outcome.files()) {
+      if (outcome.changedFiles().contains(f.relative())) {
+        Path to = (output != null ? output : manifests).resolve(f.relative());
+        writeIfDifferent(to, f.text().getBytes(StandardCharsets.UTF_8));
+      }
+    }
+    if (output == null) {
+      return;
+    }
+    for (String relative : files) {
+      if (!outcome.changedFiles().contains(relative)) {
+        try {
+          writeIfDifferent(
+              output.resolve(relative), Files.readAllBytes(manifests.resolve(relative)));
+        } catch (IOException e) {
+          throw new InputException(
+              manifests.resolve(relative).toString(), "", "cannot read: " + e.getMessage());
+        }
+      }
+    }
+  }
+
+  private static void writeIfDifferent(Path to, byte[] content) throws InputException {
+    try {
+      if (Files.isRegularFile(to) && Arrays.equals(Files.readAllBytes(to), content)) {
+        return;
+      }
+      Path parent = to.toAbsolutePath().getParent();
+      Files.createDirectories(parent);
+      Files.write(to, content);
+    } catch (IOException e) {
+      throw new InputException(to.toString(), "", "cannot write: " + e.getMessage());
+    }
+  }
+}
