@@ -38,6 +38,7 @@ public class HeapPoolSpec {
   public WorkloadSettingsSpec defaults;
 
   @JsonPropertyDescription("Settings for named workloads, over the defaults.")
+  @Size(max = Patterns.MAX_OVERRIDES)
   public List<WorkloadOverride> overrides;
 
   @JsonPropertyDescription("How the workloads are measured in Prometheus.")

@@ -28,5 +28,20 @@ final class Patterns {
   static final String TIMESTAMP =
       "^[0-9]{4}-[0-9]{2}-[0-9]{2}T[0-9]{2}:[0-9]{2}:[0-9]{2}(\\.[0-9]+)?(Z|[+-][0-9]{2}:[0-9]{2})$";
 
+  /**
+   * Longest quantity text accepted. The API server prices CEL rules by the size of what they read
+   * and refuses a CRD whose rules could cost too much, so every string a rule reads is bounded.
+   */
+  static final long QUANTITY_LENGTH = 32;
+
+  /** Longest RFC 3339 timestamp text: date, time, nanoseconds and zone. */
+  static final long TIMESTAMP_LENGTH = 40;
+
+  /** Most overrides in one pool: bounds the cost of the per-override CEL rule. */
+  static final long MAX_OVERRIDES = 500;
+
+  /** Most freeze windows in one pool. */
+  static final long MAX_FREEZE_WINDOWS = 100;
+
   private Patterns() {}
 }

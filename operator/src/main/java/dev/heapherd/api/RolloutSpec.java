@@ -8,6 +8,7 @@ import io.fabric8.generator.annotation.Max;
 import io.fabric8.generator.annotation.Min;
 import io.fabric8.generator.annotation.Pattern;
 import io.fabric8.generator.annotation.Required;
+import io.fabric8.generator.annotation.Size;
 import io.fabric8.generator.annotation.ValidationRule;
 import java.util.List;
 
@@ -54,6 +55,7 @@ public class RolloutSpec {
   public Long metricsMaxAgeSeconds;
 
   @JsonPropertyDescription("Times in which no new change starts; rollbacks still happen.")
+  @Size(max = Patterns.MAX_FREEZE_WINDOWS)
   public List<FreezeWindow> freezeWindows;
 
   /** Who approves a proposal before it is applied. */
@@ -71,11 +73,13 @@ public class RolloutSpec {
     @JsonPropertyDescription("Start, RFC 3339, e.g. 2026-12-24T00:00:00Z.")
     @Required
     @Pattern(Patterns.TIMESTAMP)
+    @Size(max = Patterns.TIMESTAMP_LENGTH)
     public String start;
 
     @JsonPropertyDescription("End, RFC 3339.")
     @Required
     @Pattern(Patterns.TIMESTAMP)
+    @Size(max = Patterns.TIMESTAMP_LENGTH)
     public String end;
   }
 }

@@ -6,6 +6,7 @@ import dev.heapherd.input.PoolFileReader;
 import io.fabric8.generator.annotation.Max;
 import io.fabric8.generator.annotation.Min;
 import io.fabric8.generator.annotation.Pattern;
+import io.fabric8.generator.annotation.Size;
 import io.fabric8.generator.annotation.ValidationRule;
 
 /** Per-workload settings: a pool's defaults, or one workload's overrides. */
@@ -24,10 +25,12 @@ public class WorkloadSettingsSpec {
 
   @JsonPropertyDescription("Smallest heap, e.g. 256Mi.")
   @Pattern(Patterns.BYTES)
+  @Size(max = Patterns.QUANTITY_LENGTH)
   public String heapFloor;
 
   @JsonPropertyDescription("Largest heap, e.g. 12Gi.")
   @Pattern(Patterns.BYTES)
+  @Size(max = Patterns.QUANTITY_LENGTH)
   public String heapCeiling;
 
   @JsonPropertyDescription("Keep the heap at least this percent above the live bytes.")
@@ -42,5 +45,6 @@ public class WorkloadSettingsSpec {
 
   @JsonPropertyDescription("Extra container memory above heap and measured non-heap.")
   @Pattern(Patterns.BYTES)
+  @Size(max = Patterns.QUANTITY_LENGTH)
   public String limitMargin;
 }

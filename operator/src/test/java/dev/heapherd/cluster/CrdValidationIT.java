@@ -13,11 +13,13 @@ import io.fabric8.kubernetes.client.utils.Serialization;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.concurrent.TimeUnit;
+import java.util.stream.Stream;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.params.ParameterizedTest;
-import org.junit.jupiter.params.provider.CsvSource;
+import org.junit.jupiter.params.provider.Arguments;
+import org.junit.jupiter.params.provider.MethodSource;
 
 /**
  * The checked-in CRD on a real kube-apiserver: it installs, accepts the bundled example, and
@@ -79,28 +81,48 @@ class CrdValidationIT {
     assertThat(stored.getSpec().mode).as("the schema's default").isEqualTo("DryRun");
   }
 
+  static Stream<Arguments> badPools() {
+    return Stream.of(
+        Arguments.of("negative budget", "memoryBudget: -1Gi", "spec.memoryBudget"),
+        Arguments.of("unknown mode", "memoryBudget: 8Gi\n  mode: Sometimes", "spec.mode"),
+        Arguments.of(
+            "budget and prices",
+            "memoryBudget: 8Gi\n  prices: {memoryPerGiBHour: \"0.004\", cpuPerCoreHour: \"0.03\"}",
+            "exactly one of memoryBudget or prices"),
+        Arguments.of(
+            "neither budget nor prices", "mode: DryRun", "exactly one of memoryBudget or prices"),
+        Arguments.of(
+            "environment variable with a space",
+            "memoryBudget: 8Gi\n  rollout: {jvmOptionsVariable: \"JAVA OPTS\"}",
+            "spec.rollout.jvmOptionsVariable"),
+        Arguments.of(
+            "container name in capitals",
+            "memoryBudget: 8Gi\n  rollout: {containerName: App}",
+            "spec.rollout.containerName"),
+        Arguments.of(
+            "weight zero", "memoryBudget: 8Gi\n  defaults: {weight: 0}", "spec.defaults.weight"),
+        Arguments.of(
+            "floor above ceiling",
+            "memoryBudget: 8Gi\n  defaults: {heapFloor: 4Gi, heapCeiling: 2Gi}",
+            "heapFloor must not be above heapCeiling"),
+        Arguments.of(
+            "freeze window ending before it starts",
+            "memoryBudget: 8Gi\n  rollout: {freezeWindows: [{start: \"2026-12-24T00:00:00Z\", end: \"2026-12-23T00:00:00Z\"}]}",
+            "end must be after start"),
+        Arguments.of(
+            "unknown approval",
+            "memoryBudget: 8Gi\n  rollout: {approval: Sometimes}",
+            "spec.rollout.approval"));
+  }
+
   @ParameterizedTest(name = "{0}")
-  @CsvSource(
-      delimiter = '|',
-      value = {
-        "negative budget | memoryBudget: -1Gi | spec.memoryBudget",
-        "unknown mode | memoryBudget: 8Gi\n  mode: Sometimes | spec.mode",
-        "budget and prices | memoryBudget: 8Gi\n  prices: {memoryPerGiBHour: \"0.004\", cpuPerCoreHour: \"0.03\"} | exactly one of memoryBudget or prices",
-        "neither budget nor prices | mode: DryRun | exactly one of memoryBudget or prices",
-        "environment variable with a space | memoryBudget: 8Gi\n  rollout: {jvmOptionsVariable: \"JAVA OPTS\"} | spec.rollout.jvmOptionsVariable",
-        "container name in capitals | memoryBudget: 8Gi\n  rollout: {containerName: App} | spec.rollout.containerName",
-        "weight zero | memoryBudget: 8Gi\n  defaults: {weight: 0} | spec.defaults.weight",
-        "floor above ceiling | memoryBudget: 8Gi\n  defaults: {heapFloor: 4Gi, heapCeiling: 2Gi} | heapFloor must not be above heapCeiling",
-        "freeze window ending before it starts | memoryBudget: 8Gi\n  rollout: {freezeWindows: [{start: \"2026-12-24T00:00:00Z\", end: \"2026-12-23T00:00:00Z\"}]} | end must be after start",
-        "unknown approval | memoryBudget: 8Gi\n  rollout: {approval: Sometimes} | spec.rollout.approval",
-        "no selector | memoryBudget: 8Gi\n  selector: null | spec.selector",
-      })
+  @MethodSource("badPools")
   void badPoolsAreRejected(String what, String spec, String message) {
     String yaml =
         "apiVersion: heapherd.dev/v1alpha1\nkind: HeapPool\nmetadata:\n  name: bad\n  namespace: "
             + NAMESPACE
             + "\nspec:\n  selector:\n    matchLabels: {heapherd.dev/pool: dispatch}\n  "
-            + spec.replace("\\n", "\n")
+            + spec
             + "\n";
     var resource = Serialization.unmarshal(yaml, GenericKubernetesResource.class);
     assertThatThrownBy(() -> client.resource(resource).create())
