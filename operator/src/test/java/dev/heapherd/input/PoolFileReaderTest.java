@@ -84,6 +84,60 @@ class PoolFileReaderTest {
   }
 
   @Test
+  void readsRolloutSettingsAndTheApproval() throws Exception {
+    String rollout =
+        replaceOnce(
+            POOL,
+            "  defaults:",
+            """
+              approvedProposal: 3f9c0a7d12e4b5c6
+              rollout:
+                containerName: app
+                jvmOptionsVariable: JDK_JAVA_OPTIONS
+                setMemoryRequest: false
+                setInitialHeap: true
+                approval: Automatic
+                maxRollingWorkloads: 2
+                cooldownSeconds: 600
+                changeThresholdPercent: 10
+                metricsMaxAgeSeconds: 300
+                freezeWindows:
+                  - start: "2026-12-24T00:00:00Z"
+                    end: "2026-12-27T00:00:00+01:00"
+              defaults:"""
+                .indent(2)
+                .stripTrailing());
+
+    PoolFile pool = PoolFileReader.read(write(dir, "pool.yaml", rollout));
+
+    assertThat(pool.approvedProposal()).isEqualTo("3f9c0a7d12e4b5c6");
+    PoolFile.Rollout r = pool.rollout();
+    assertThat(r.containerName()).isEqualTo("app");
+    assertThat(r.jvmOptionsVariable()).isEqualTo("JDK_JAVA_OPTIONS");
+    assertThat(r.setMemoryRequest()).isFalse();
+    assertThat(r.setInitialHeap()).isTrue();
+    assertThat(r.automaticApproval()).isTrue();
+    assertThat(r.maxRollingWorkloads()).isEqualTo(2);
+    assertThat(r.cooldownSeconds()).isEqualTo(600);
+    assertThat(r.changeThresholdPercent()).isEqualTo(10);
+    assertThat(r.metricsMaxAgeSeconds()).isEqualTo(300);
+    assertThat(r.frozenAt(java.time.Instant.parse("2026-12-25T12:00:00Z"))).isTrue();
+    // The end is 2026-12-26T23:00Z once its zone is applied.
+    assertThat(r.frozenAt(java.time.Instant.parse("2026-12-26T23:30:00Z"))).isFalse();
+    assertThat(r.frozenAt(java.time.Instant.parse("2026-12-23T23:59:59Z"))).isFalse();
+  }
+
+  @Test
+  void defaultsTheRolloutSettings() throws Exception {
+    PoolFile pool = PoolFileReader.read(write(dir, "pool.yaml", POOL));
+
+    assertThat(pool.rollout()).isEqualTo(PoolFileReader.DEFAULT_ROLLOUT);
+    assertThat(pool.approvedProposal()).isEmpty();
+    assertThat(pool.rollout().jvmOptionsVariable()).isEqualTo("JAVA_TOOL_OPTIONS");
+    assertThat(pool.rollout().automaticApproval()).isFalse();
+  }
+
+  @Test
   void reportsAMissingFile() throws Exception {
     Path pool = dir.resolve("absent.yaml");
 
@@ -125,6 +179,45 @@ class PoolFileReaderTest {
 
   static Stream<Arguments> badPools() {
     return Stream.of(
+        // Rollout settings.
+        arguments(
+            "an environment variable name with a space",
+            "  defaults:",
+            "  rollout:\n    jvmOptionsVariable: JAVA OPTS\n  defaults:",
+            "spec.rollout.jvmOptionsVariable",
+            "\"JAVA OPTS\" is not an environment variable name"),
+        arguments(
+            "an unknown approval",
+            "  defaults:",
+            "  rollout:\n    approval: Sometimes\n  defaults:",
+            "spec.rollout.approval",
+            "\"Sometimes\" is not one of"),
+        arguments(
+            "a freeze window ending before it starts",
+            "  defaults:",
+            "  rollout:\n    freezeWindows:\n      - start: \"2026-12-24T00:00:00Z\"\n"
+                + "        end: \"2026-12-23T00:00:00Z\"\n  defaults:",
+            "spec.rollout.freezeWindows[0].end",
+            "must be after start"),
+        arguments(
+            "a freeze window without a zone",
+            "  defaults:",
+            "  rollout:\n    freezeWindows:\n      - start: \"2026-12-24T00:00:00\"\n"
+                + "        end: \"2026-12-25T00:00:00Z\"\n  defaults:",
+            "spec.rollout.freezeWindows[0].start",
+            "is not an RFC 3339 time"),
+        arguments(
+            "an approval that is not a hash",
+            "  defaults:",
+            "  approvedProposal: latest\n  defaults:",
+            "spec.approvedProposal",
+            "\"latest\" is not a proposal hash"),
+        arguments(
+            "zero rolling workloads",
+            "  defaults:",
+            "  rollout:\n    maxRollingWorkloads: 0\n  defaults:",
+            "spec.rollout.maxRollingWorkloads",
+            "0"),
         // Units.
         arguments(
             "GB is not a unit",
