@@ -34,8 +34,19 @@ public final class Main implements Runnable {
 
   @CommandLine.Spec CommandLine.Model.CommandSpec spec;
 
+  /** Environment variable naming the log level: error, warn, info (default) or debug. */
+  static final String LOG_LEVEL_VARIABLE = "HEAPHERD_LOG_LEVEL";
+
+  /** The system property slf4j-simple reads its default level from (its documentation). */
+  private static final String SIMPLE_LOGGER_LEVEL = "org.slf4j.simpleLogger.defaultLogLevel";
+
   /** Runs the command line and exits with its code. */
   public static void main(String[] args) {
+    String level = System.getenv(LOG_LEVEL_VARIABLE);
+    // Before any logger exists: slf4j-simple reads the level once, when it starts.
+    if (level != null && !level.isBlank() && System.getProperty(SIMPLE_LOGGER_LEVEL) == null) {
+      System.setProperty(SIMPLE_LOGGER_LEVEL, level.strip().toLowerCase(java.util.Locale.ROOT));
+    }
     System.exit(commandLine().execute(args));
   }
 

@@ -1,0 +1,127 @@
+package dev.heapherd.chart;
+
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.dataformat.yaml.YAMLMapper;
+import com.marcnuri.helm.Helm;
+import io.fabric8.kubernetes.api.model.HasMetadata;
+import io.fabric8.kubernetes.api.model.apps.Deployment;
+import io.fabric8.kubernetes.api.model.rbac.ClusterRole;
+import io.fabric8.kubernetes.api.model.rbac.PolicyRule;
+import io.fabric8.kubernetes.client.utils.Serialization;
+import java.io.ByteArrayInputStream;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import org.junit.jupiter.api.Test;
+
+/** The chart lints cleanly and renders what an admin expects, through helm's own library. */
+class HelmChartTest {
+
+  static final Path CHART = Path.of("../helm/heapherd");
+
+  @Test
+  void lintsStrictlyWithoutFindings() {
+    var result = new Helm(CHART).lint().strict().call();
+    assertThat(result.isFailed()).as(String.join("\n", result.getMessages())).isFalse();
+  }
+
+  @Test
+  void rendersALeastPrivilegeOperatorThatRunsNonRootOnAReadOnlyFilesystem() throws Exception {
+    List<HasMetadata> objects = render("http://prometheus.monitoring:9090");
+
+    ClusterRole role = only(objects, ClusterRole.class);
+    List<PolicyRule> expected = new ArrayList<>();
+    for (JsonNode rule :
+        new YAMLMapper().readTree(CHART.resolve("files/operator-rules.yaml").toFile())) {
+      expected.add(Serialization.unmarshal(rule.toString(), PolicyRule.class));
+    }
+    assertThat(role.getRules()).as("the rules HeapPoolReconcilerIT checks").isEqualTo(expected);
+
+    Deployment d = only(objects, Deployment.class);
+    var pod = d.getSpec().getTemplate().getSpec();
+    assertThat(pod.getSecurityContext().getRunAsNonRoot()).isTrue();
+    var c = pod.getContainers().get(0);
+    assertThat(c.getSecurityContext().getReadOnlyRootFilesystem()).isTrue();
+    assertThat(c.getSecurityContext().getAllowPrivilegeEscalation()).isFalse();
+    assertThat(c.getResources().getLimits()).containsKey("memory");
+    assertThat(c.getArgs())
+        .contains(
+            "operator",
+            "--prometheus=http://prometheus.monitoring:9090",
+            "--leader-election-namespace=heapherd-system");
+    assertThat(c.getLivenessProbe().getHttpGet().getPath()).isEqualTo("/healthz");
+    assertThat(c.getReadinessProbe().getHttpGet().getPath()).isEqualTo("/readyz");
+    assertThat(pod.getServiceAccountName())
+        .isEqualTo(
+            only(objects, io.fabric8.kubernetes.api.model.ServiceAccount.class)
+                .getMetadata()
+                .getName());
+  }
+
+  @Test
+  void passesWatchedNamespacesAndPrometheusCredentials() {
+    List<HasMetadata> objects =
+        render(
+            Map.of(
+                "prometheus.url", "https://prometheus.monitoring:9091",
+                "prometheus.bearerTokenSecret", "prometheus-reader",
+                "prometheus.caConfigMap", "prometheus-ca",
+                "watchNamespaces[0]", "tidewater-dispatch",
+                "watchNamespaces[1]", "tidewater-billing"));
+
+    var pod = only(objects, Deployment.class).getSpec().getTemplate().getSpec();
+    assertThat(pod.getContainers().get(0).getArgs())
+        .contains(
+            "--namespaces=tidewater-dispatch,tidewater-billing",
+            "--bearer-token-file=/etc/heapherd/prometheus-token/token",
+            "--ca-file=/etc/heapherd/prometheus-ca/ca.crt");
+    assertThat(pod.getVolumes())
+        .filteredOn(v -> v.getSecret() != null)
+        .extracting(v -> v.getSecret().getSecretName())
+        .containsExactly("prometheus-reader");
+    assertThat(pod.getVolumes())
+        .filteredOn(v -> v.getConfigMap() != null)
+        .extracting(v -> v.getConfigMap().getName())
+        .containsExactly("prometheus-ca");
+  }
+
+  @Test
+  void refusesToRenderWithoutAPrometheusUrl() {
+    assertThatThrownBy(() -> new Helm(CHART).template().withName("heapherd").call())
+        .hasMessageContaining("set prometheus.url");
+  }
+
+  static List<HasMetadata> render(String prometheusUrl) {
+    return render(Map.of("prometheus.url", prometheusUrl));
+  }
+
+  /** The chart rendered as release "heapherd" in namespace heapherd-system with these values. */
+  static List<HasMetadata> render(Map<String, String> values) {
+    var template = new Helm(CHART).template().withName("heapherd").withNamespace("heapherd-system");
+    values.forEach(template::set);
+    String text = template.call();
+    List<HasMetadata> out = new ArrayList<>();
+    for (String doc : text.split("(?m)^---\\s*$")) {
+      if (doc.strip().isEmpty()) {
+        continue;
+      }
+      Object parsed =
+          Serialization.unmarshal(new ByteArrayInputStream(doc.getBytes(StandardCharsets.UTF_8)));
+      if (parsed instanceof HasMetadata h) {
+        out.add(h);
+      }
+    }
+    return out;
+  }
+
+  private static <T extends HasMetadata> T only(List<HasMetadata> objects, Class<T> type) {
+    List<T> found = objects.stream().filter(type::isInstance).map(type::cast).toList();
+    assertThat(found).as(type.getSimpleName()).hasSize(1);
+    return found.get(0);
+  }
+}
