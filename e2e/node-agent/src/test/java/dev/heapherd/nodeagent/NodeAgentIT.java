@@ -189,14 +189,17 @@ class NodeAgentIT {
       assertThat(truth.path("pid").asLong()).isEqualTo(pid(pod));
       assertMaxHeap(truth, 96);
     }
-    // The scrape itself: Prometheus reads the list and reaches both JVMs.
+    // The scrape itself: Prometheus reads the list, reaches both JVMs and stores a GC metric of
+    // each under its own pod label (Micrometer's JvmGcMetrics names it, see e2e/workload).
     await()
         .atMost(Duration.ofSeconds(30))
         .pollInterval(Duration.ofMillis(500))
         .until(
             () ->
                 prometheus.scalar(
-                        "count(up{namespace=\"" + namespace + "\",workload=\"demo\"} == 1)")
+                        "count(count by (pod) (jvm_gc_memory_allocated_bytes_total{namespace=\""
+                            + namespace
+                            + "\",workload=\"demo\"}))")
                     == 2);
 
     client
