@@ -53,6 +53,9 @@ public final class Main implements Runnable {
   /** The configured command line, shared by {@link #main} and tests. */
   public static CommandLine commandLine() {
     CommandLine cli = new CommandLine(new Main());
+    // The last of a repeated option wins, so a wrapper (a pod's runtime, a script) can append an
+    // override to arguments it was given.
+    cli.setOverwrittenOptionsAllowed(true);
     cli.setExecutionExceptionHandler(
         (e, commandLine, parseResult) -> {
           // A failure here is a defect of ours; one line says so without a stack trace.

@@ -11,8 +11,6 @@ import io.fabric8.kubernetes.api.model.apps.Deployment;
 import io.fabric8.kubernetes.api.model.rbac.ClusterRole;
 import io.fabric8.kubernetes.api.model.rbac.PolicyRule;
 import io.fabric8.kubernetes.client.utils.Serialization;
-import java.io.ByteArrayInputStream;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
@@ -22,7 +20,7 @@ import org.junit.jupiter.api.Test;
 /** The chart lints cleanly and renders what an admin expects, through helm's own library. */
 class HelmChartTest {
 
-  static final Path CHART = Path.of("../helm/heapherd");
+  static final Path CHART = Chart.DIR;
 
   @Test
   void lintsStrictlyWithoutFindings() {
@@ -97,26 +95,11 @@ class HelmChartTest {
   }
 
   static List<HasMetadata> render(String prometheusUrl) {
-    return render(Map.of("prometheus.url", prometheusUrl));
+    return Chart.render(Map.of("prometheus.url", prometheusUrl));
   }
 
-  /** The chart rendered as release "heapherd" in namespace heapherd-system with these values. */
   static List<HasMetadata> render(Map<String, String> values) {
-    var template = new Helm(CHART).template().withName("heapherd").withNamespace("heapherd-system");
-    values.forEach(template::set);
-    String text = template.call();
-    List<HasMetadata> out = new ArrayList<>();
-    for (String doc : text.split("(?m)^---\\s*$")) {
-      if (doc.strip().isEmpty()) {
-        continue;
-      }
-      Object parsed =
-          Serialization.unmarshal(new ByteArrayInputStream(doc.getBytes(StandardCharsets.UTF_8)));
-      if (parsed instanceof HasMetadata h) {
-        out.add(h);
-      }
-    }
-    return out;
+    return Chart.render(values);
   }
 
   private static <T extends HasMetadata> T only(List<HasMetadata> objects, Class<T> type) {

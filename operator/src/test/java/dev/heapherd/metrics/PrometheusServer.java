@@ -20,7 +20,7 @@ import java.util.concurrent.TimeUnit;
  * The real Prometheus server (Debian's package) on loopback, scraping every second the targets a
  * test lists. Started and stopped by the test, by its own process handle.
  */
-final class PrometheusServer implements AutoCloseable {
+public final class PrometheusServer implements AutoCloseable {
 
   /** Where Debian's package installs the server. */
   static final Path BINARY = Path.of("/usr/bin/prometheus");
@@ -39,21 +39,29 @@ final class PrometheusServer implements AutoCloseable {
   /** A target to scrape and the labels it carries, such as namespace and pod. */
   record Target(String hostPort, Map<String, String> labels) {}
 
-  private PrometheusServer(Path dir, int port) {
+  private PrometheusServer(Path dir, Path targets, int port) {
     this.dir = dir;
-    this.targets = dir.resolve("targets.json");
+    this.targets = targets;
     this.port = port;
   }
 
   /** Starts a server with no targets yet, storing its data under {@code dir}. */
   static PrometheusServer start(Path dir) throws IOException {
-    PrometheusServer server = new PrometheusServer(dir, freePort());
+    PrometheusServer server = new PrometheusServer(dir, dir.resolve("targets.json"), freePort());
     server.setTargets(List.of());
     server.launch();
     return server;
   }
 
-  URI uri() {
+  /** Starts a server scraping the file_sd list another process (the node agent) writes. */
+  public static PrometheusServer scraping(Path dir, Path targetsFile) throws IOException {
+    PrometheusServer server = new PrometheusServer(dir, targetsFile, freePort());
+    server.launch();
+    return server;
+  }
+
+  /** The server's base URL on 127.0.0.1. */
+  public URI uri() {
     return URI.create("http://127.0.0.1:" + port);
   }
 
@@ -76,7 +84,7 @@ final class PrometheusServer implements AutoCloseable {
   }
 
   /** Starts the process again after {@link #stop()}, on the same port and data. */
-  void launch() throws IOException {
+  public void launch() throws IOException {
     Path config = dir.resolve("prometheus.yml");
     Files.writeString(
         config,
@@ -117,7 +125,7 @@ final class PrometheusServer implements AutoCloseable {
   }
 
   /** Stops the process by its handle and waits for it to exit. */
-  void stop() throws InterruptedException {
+  public void stop() throws InterruptedException {
     if (process == null) {
       return;
     }
@@ -138,7 +146,7 @@ final class PrometheusServer implements AutoCloseable {
   }
 
   /** A loopback port free at the time of asking. */
-  static int freePort() throws IOException {
+  public static int freePort() throws IOException {
     try (ServerSocket socket = new ServerSocket(0, 1, java.net.InetAddress.getLoopbackAddress())) {
       return socket.getLocalPort();
     }

@@ -34,6 +34,13 @@ sealed interface ContainerLaunch {
       OptionalLong memoryLimitBytes)
       implements ContainerLaunch {
 
+    /** This launch with one more environment variable. */
+    Jar withVariable(String name, String value) {
+      Map<String, String> more = new LinkedHashMap<>(environment);
+      more.put(name, value);
+      return new Jar(image, imageId, args, more, memoryLimitBytes);
+    }
+
     /** The command line, with the port argument last so it wins over one in the args. */
     List<String> command(Path java, Optional<Integer> port) {
       List<String> command =

@@ -106,7 +106,8 @@ final class NodeAgent implements AutoCloseable {
             settings.maxBackOff(),
             settings.maxGrace(),
             this::wake,
-            started);
+            started,
+            new ServiceAccountCredentials(client));
   }
 
   /**

@@ -72,9 +72,22 @@ final class PodWorker {
       throw new UncheckedIOException("cannot create " + dir, e);
     }
     RestartPolicy policy = RestartPolicy.of(pod.getSpec().getRestartPolicy());
+    Optional<Path> kubeconfig = Optional.empty();
+    String credentialError = null;
+    try {
+      kubeconfig = context.credentials().write(pod, dir);
+    } catch (IOException e) {
+      credentialError = e.getMessage();
+    }
     for (Container container : pod.getSpec().getContainers()) {
       ContainerLaunch launch =
           ContainerLaunch.plan(pod, container, context.images(), context.nodeName());
+      if (launch instanceof ContainerLaunch.Jar jar && kubeconfig.isPresent()) {
+        launch =
+            jar.withVariable(ServiceAccountCredentials.KUBECONFIG, kubeconfig.get().toString());
+      } else if (launch instanceof ContainerLaunch.Jar && credentialError != null) {
+        launch = new ContainerLaunch.NotRunnable(ContainerLaunch.CONFIG_ERROR, credentialError);
+      }
       Optional<Integer> port =
           launch instanceof ContainerLaunch.Jar jar && jar.needsPort()
               ? Optional.of(ports.allocate())

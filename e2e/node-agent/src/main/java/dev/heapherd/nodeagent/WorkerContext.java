@@ -18,4 +18,5 @@ record WorkerContext(
     Duration maxBackOff,
     Duration maxGrace,
     Runnable wake,
-    Set<ProcessHandle> started) {}
+    Set<ProcessHandle> started,
+    ServiceAccountCredentials credentials) {}

@@ -1,0 +1,553 @@
+package dev.heapherd.e2e;
+
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.awaitility.Awaitility.await;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import dev.heapherd.api.HeapPool;
+import dev.heapherd.api.HeapPoolStatus;
+import dev.heapherd.chart.Chart;
+import dev.heapherd.cluster.ControlPlane;
+import dev.heapherd.input.Quantity;
+import dev.heapherd.metrics.PrometheusServer;
+import dev.heapherd.reconcile.Annotations;
+import dev.heapherd.rollout.JvmOptions;
+import io.fabric8.kubernetes.api.model.Condition;
+import io.fabric8.kubernetes.api.model.GenericKubernetesResource;
+import io.fabric8.kubernetes.api.model.HasMetadata;
+import io.fabric8.kubernetes.api.model.NamespaceBuilder;
+import io.fabric8.kubernetes.api.model.Pod;
+import io.fabric8.kubernetes.api.model.apiextensions.v1.CustomResourceDefinition;
+import io.fabric8.kubernetes.api.model.apps.Deployment;
+import io.fabric8.kubernetes.client.KubernetesClient;
+import io.fabric8.kubernetes.client.utils.Serialization;
+import java.net.URI;
+import java.net.URLEncoder;
+import java.net.http.HttpClient;
+import java.net.http.HttpRequest;
+import java.net.http.HttpResponse;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.util.List;
+import java.util.Map;
+import java.util.Objects;
+import java.util.concurrent.TimeUnit;
+import java.util.concurrent.atomic.AtomicBoolean;
+import java.util.concurrent.atomic.AtomicInteger;
+import java.util.concurrent.atomic.AtomicLong;
+import org.junit.jupiter.api.AfterAll;
+import org.junit.jupiter.api.BeforeAll;
+import org.junit.jupiter.api.MethodOrderer;
+import org.junit.jupiter.api.Order;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.TestMethodOrder;
+
+/**
+ * The whole loop on a real control plane: the chart's operator Deployment runs as a pod of our node
+ * agent, measures real JVMs through the real Prometheus and rolls heaps out through the real
+ * Deployment controller. Everything is asserted from the API server, Prometheus and the JVMs.
+ */
+@TestMethodOrder(MethodOrderer.OrderAnnotation.class)
+class FleetE2E {
+
+  private static final String NS = "tidewater-e2e";
+  private static final String OTHER_NS = "tidewater-other";
+  private static final String OOM_NS = "tidewater-oom";
+  private static final String POOL = "dispatch";
+
+  /** The pool's budget: today's limits plus room for one surge pod and some to share. */
+  private static final long BUDGET_MIB = 1600;
+
+  private static final List<Fleet.Service> SERVICES =
+      List.of(
+          // Big and quiet: the donor.
+          new Fleet.Service("customs-docs", 24, 0.2, 2, 256, 456),
+          // Small and busy: old-generation churn on a heap barely above its live set.
+          new Fleet.Service("rate-quoter", 48, 6, 24, 80, 280),
+          new Fleet.Service("route-planner", 32, 1, 8, 128, 328));
+
+  private static final Duration MEASURED = Duration.ofMinutes(5);
+  private static final Duration ROLLED = Duration.ofMinutes(8);
+  private static final ObjectMapper JSON = new ObjectMapper();
+
+  private static Path work;
+  private static ControlPlane cluster;
+  private static KubernetesClient client;
+  private static NodeAgent agent;
+  private static PrometheusServer prometheus;
+  private static final HttpClient HTTP = HttpClient.newHttpClient();
+
+  /** The proposal approved in the dry-run scenario, applied in the next ones. */
+  private static HeapPoolStatus.Proposal approved;
+
+  private static double gcBefore;
+
+  @BeforeAll
+  static void startTheWholeLoop() throws Exception {
+    work = Files.createTempDirectory("heapherd-e2e");
+    cluster = ControlPlane.start();
+    client = cluster.client();
+    agent = NodeAgent.start(cluster.kubeconfig(), work.resolve("agent"), client);
+    Files.createDirectories(work.resolve("prometheus"));
+    prometheus = PrometheusServer.scraping(work.resolve("prometheus"), agent.targets());
+    installChart();
+    for (String ns : List.of(NS, OTHER_NS, OOM_NS)) {
+      client
+          .namespaces()
+          .resource(new NamespaceBuilder().withNewMetadata().withName(ns).endMetadata().build())
+          .create();
+    }
+    for (Fleet.Service s : SERVICES) {
+      client.resource(Fleet.deployment(NS, POOL, s, 1)).create();
+    }
+    // Same labels in another namespace: a pool manages only its own namespace.
+    client.resource(Fleet.deployment(OTHER_NS, POOL, SERVICES.get(0), 1)).create();
+    // A workload an admin's settings push below what it needs: a 64 MiB heap and limit with no
+    // margin, for a JVM whose live set is half of that.
+    client
+        .resource(
+            Fleet.deployment(
+                OOM_NS, "printing", new Fleet.Service("manifest-printer", 32, 0.5, 4, 128, 320), 0))
+        .create();
+    for (String ns : List.of(NS, OTHER_NS, OOM_NS)) {
+      await().atMost(Duration.ofMinutes(2)).until(() -> allRunning(ns));
+    }
+  }
+
+  @AfterAll
+  static void stopEverything() throws Exception {
+    if (agent != null) {
+      agent.close();
+    }
+    if (prometheus != null) {
+      prometheus.close();
+    }
+    if (client != null) {
+      client.close();
+    }
+    if (cluster != null) {
+      cluster.close();
+    }
+  }
+
+  @Test
+  @Order(1)
+  void aDryRunPoolPublishesAProposalAndChangesNothing() throws Exception {
+    client.resource(pool(NS, POOL, "DryRun", BUDGET_MIB + "Mi", "")).create();
+    await()
+        .atMost(MEASURED)
+        .pollInterval(Duration.ofSeconds(2))
+        .until(
+            () -> {
+              HeapPool p = heapPool(NS, POOL);
+              return p != null
+                  && p.getStatus() != null
+                  && p.getStatus().proposal != null
+                  && p.getStatus().proposal.workloads.size() == SERVICES.size();
+            });
+    HeapPool p = heapPool(NS, POOL);
+    approved = p.getStatus().proposal;
+    assertThat(approved.hash).matches("[0-9a-f]{16}");
+    assertThat(reason(p, "Ready")).isEqualTo("DryRun");
+    // kubectl's table comes from the CRD's printer columns.
+    String table = kubectl("get", "heappools", "-n", NS);
+    assertThat(table)
+        .contains("MODE", "BUDGET", "USED", "GC CHANGE", "STATE", "DryRun", BUDGET_MIB + "Mi");
+    for (Fleet.Service s : SERVICES) {
+      assertThat(replicaSets(NS, s.name())).as("no pod template changed").isEqualTo(1);
+    }
+    gcBefore = poolGcSecondsPerSecond();
+    assertThat(gcBefore).isPositive();
+  }
+
+  @Test
+  @Order(2)
+  void anApprovedProposalRollsOneAtATimeWithinTheBudgetAndSurvivesAnOperatorRestart()
+      throws Exception {
+    long budget = BUDGET_MIB << 20;
+    AtomicLong peak = new AtomicLong();
+    AtomicInteger mostRolling = new AtomicInteger();
+    AtomicBoolean sampling = new AtomicBoolean(true);
+    Thread sampler =
+        new Thread(
+            () -> {
+              while (sampling.get()) {
+                try {
+                  peak.accumulateAndGet(podMemoryBytes(NS), Math::max);
+                  mostRolling.accumulateAndGet(rolling(NS), Math::max);
+                  Thread.sleep(200);
+                } catch (InterruptedException e) {
+                  return;
+                } catch (RuntimeException e) {
+                  // A list can fail while the API server is busy; the next sample counts.
+                }
+              }
+            });
+    sampler.start();
+    String operatorPod = operatorPod();
+    client
+        .resources(HeapPool.class)
+        .inNamespace(NS)
+        .withName(POOL)
+        .edit(
+            p -> {
+              p.getSpec().mode = "Apply";
+              p.getSpec().approvedProposal = approved.hash;
+              return p;
+            });
+    // Kill the operator as soon as the first workload rolls; its replacement must finish the job.
+    await().atMost(ROLLED).until(() -> rolling(NS) > 0);
+    client.pods().inNamespace(Chart.NAMESPACE).withName(operatorPod).withGracePeriod(0).delete();
+    await()
+        .atMost(ROLLED)
+        .pollInterval(Duration.ofSeconds(2))
+        .until(FleetE2E::approvedProposalRunning);
+    sampling.set(false);
+    sampler.join();
+
+    assertThat(operatorPod()).as("a new operator pod took over").isNotEqualTo(operatorPod);
+    assertThat(peak.get())
+        .as("pod memory limits, surge pods included, at every sample")
+        .isLessThanOrEqualTo(budget);
+    assertThat(mostRolling.get()).as("workloads rolling at once").isEqualTo(1);
+    for (var w : approved.workloads) {
+      int expected = w.currentHeap.equals(w.proposedHeap) ? 1 : 2;
+      assertThat(replicaSets(NS, w.name))
+          .as("%s rolled exactly once", w.name)
+          .isLessThanOrEqualTo(expected);
+      long target = Quantity.parseBytes(w.proposedHeap);
+      for (Pod pod : pods(NS, w.name)) {
+        // G1's maximum heap is exactly -Xmx (Runtime.maxMemory, JDK documentation).
+        assertThat((double) truth(pod).path("maxHeapBytes").asLong())
+            .as("%s's JVM heap", pod.getMetadata().getName())
+            .isCloseTo(target, org.assertj.core.data.Percentage.withPercentage(5));
+      }
+    }
+    // Let a whole measurement window pass on the new heaps before comparing GC time.
+    Thread.sleep(TimeUnit.SECONDS.toMillis(75));
+    double gcAfter = poolGcSecondsPerSecond();
+    assertThat(gcAfter).as("pool GC time after (before: %s s/s)", gcBefore).isLessThan(gcBefore);
+  }
+
+  @Test
+  @Order(3)
+  void workloadsOfAnotherNamespaceAreNeverTouched() {
+    assertThat(replicaSets(OTHER_NS, SERVICES.get(0).name())).isEqualTo(1);
+    Deployment d =
+        client.apps().deployments().inNamespace(OTHER_NS).withName(SERVICES.get(0).name()).get();
+    assertThat(
+            d.getMetadata().getAnnotations() == null ? Map.of() : d.getMetadata().getAnnotations())
+        .doesNotContainKey(Annotations.ROLLOUT);
+    assertThat(options(d)).startsWith("-Xmx" + SERVICES.get(0).heapMib() + "m");
+  }
+
+  @Test
+  @Order(4)
+  void withPrometheusStoppedPoolsHoldAndSayWhyThenResume() throws Exception {
+    prometheus.stop();
+    await()
+        .atMost(Duration.ofMinutes(2))
+        .pollInterval(Duration.ofSeconds(2))
+        .until(() -> "MetricsUnavailable".equals(reason(heapPool(NS, POOL), "Ready")));
+    Condition metrics = condition(heapPool(NS, POOL), "MetricsAvailable");
+    assertThat(metrics.getStatus()).isEqualTo("False");
+    assertThat(metrics.getMessage()).isNotBlank();
+    assertThat(rolling(NS)).isZero();
+    prometheus.launch();
+    await()
+        .atMost(Duration.ofMinutes(3))
+        .pollInterval(Duration.ofSeconds(2))
+        .until(() -> "True".equals(condition(heapPool(NS, POOL), "MetricsAvailable").getStatus()));
+  }
+
+  @Test
+  @Order(5)
+  void aWorkloadPushedBelowWhatItNeedsIsOomKilledRolledBackAndMarked() {
+    client
+        .resource(
+            pool(
+                OOM_NS,
+                "printing",
+                "Apply",
+                "330Mi",
+                "  defaults:\n    heapCeiling: 64Mi\n    limitMargin: \"0\"\n    maxStepPercent: 300\n  rollout:\n    approval: Automatic\n"))
+        .create();
+    await()
+        .atMost(ROLLED)
+        .pollInterval(Duration.ofSeconds(2))
+        .until(
+            () -> {
+              var a =
+                  client
+                      .apps()
+                      .deployments()
+                      .inNamespace(OOM_NS)
+                      .withName("manifest-printer")
+                      .get()
+                      .getMetadata()
+                      .getAnnotations();
+              return a != null && a.containsKey(Annotations.ROLLED_BACK);
+            });
+    HeapPool p = heapPool(OOM_NS, "printing");
+    assertThat(p.getStatus().history)
+        .anySatisfy(
+            a -> {
+              assertThat(a.action).isEqualTo("RolloutRolledBack");
+              assertThat(a.message).contains("OOMKilled");
+            });
+    Deployment d =
+        client.apps().deployments().inNamespace(OOM_NS).withName("manifest-printer").get();
+    assertThat(options(d)).startsWith("-Xmx128m");
+    assertThat(client.v1().events().inNamespace(OOM_NS).list().getItems())
+        .anySatisfy(e -> assertThat(e.getReason()).isEqualTo("RolloutRolledBack"));
+    await()
+        .atMost(ROLLED)
+        .pollInterval(Duration.ofSeconds(2))
+        .until(
+            () ->
+                heapPool(OOM_NS, "printing").getStatus().proposal.held.stream()
+                    .anyMatch(h -> h.name.equals("manifest-printer")));
+  }
+
+  // --- set-up ---
+
+  private static void installChart() throws Exception {
+    for (Path file : Files.newDirectoryStream(Chart.DIR.resolve("crds"))) {
+      CustomResourceDefinition crd =
+          Serialization.unmarshal(Files.newInputStream(file), CustomResourceDefinition.class);
+      client.resource(crd).create();
+      client
+          .apiextensions()
+          .v1()
+          .customResourceDefinitions()
+          .withName(crd.getMetadata().getName())
+          .waitUntilCondition(
+              c ->
+                  c.getStatus() != null
+                      && c.getStatus().getConditions().stream()
+                          .anyMatch(
+                              x ->
+                                  x.getType().equals("Established")
+                                      && x.getStatus().equals("True")),
+              60,
+              TimeUnit.SECONDS);
+    }
+    client
+        .namespaces()
+        .resource(
+            new NamespaceBuilder()
+                .withNewMetadata()
+                .withName(Chart.NAMESPACE)
+                .endMetadata()
+                .build())
+        .create();
+    List<HasMetadata> objects =
+        Chart.render(
+            Map.of(
+                "prometheus.url", prometheus.uri().toString(),
+                "metrics.bindAddress", "127.0.0.1",
+                "measureEverySeconds", "5"));
+    for (HasMetadata o : objects) {
+      client.resource(o).create();
+    }
+    await()
+        .atMost(Duration.ofMinutes(2))
+        .ignoreExceptions()
+        .until(
+            () ->
+                Objects.equals(
+                    client
+                        .apps()
+                        .deployments()
+                        .inNamespace(Chart.NAMESPACE)
+                        .withName("heapherd")
+                        .get()
+                        .getStatus()
+                        .getAvailableReplicas(),
+                    1));
+  }
+
+  private static GenericKubernetesResource pool(
+      String ns, String name, String mode, String budget, String extra) {
+    String yaml =
+        "apiVersion: heapherd.dev/v1alpha1\nkind: HeapPool\nmetadata:\n  name: "
+            + name
+            + "\n  namespace: "
+            + ns
+            + "\nspec:\n  mode: "
+            + mode
+            + "\n  memoryBudget: "
+            + budget
+            + "\n  selector:\n    matchLabels:\n      "
+            + Fleet.POOL_LABEL
+            + ": "
+            + name
+            + "\n  metrics:\n    windowSeconds: 60\n"
+            + (extra.isEmpty()
+                ? "  defaults:\n    limitMargin: 128Mi\n    maxStepPercent: 300\n"
+                : extra);
+    return Serialization.unmarshal(yaml, GenericKubernetesResource.class);
+  }
+
+  // --- observations ---
+
+  private static boolean allRunning(String ns) {
+    List<Pod> pods = client.pods().inNamespace(ns).list().getItems();
+    return !pods.isEmpty()
+        && pods.stream()
+            .allMatch(
+                p ->
+                    p.getStatus() != null
+                        && p.getStatus().getConditions() != null
+                        && p.getStatus().getConditions().stream()
+                            .anyMatch(
+                                c -> c.getType().equals("Ready") && c.getStatus().equals("True")));
+  }
+
+  /** The approved proposal's heaps are in every template and every rollout has finished. */
+  private static boolean approvedProposalRunning() {
+    for (var w : approved.workloads) {
+      Deployment d = client.apps().deployments().inNamespace(NS).withName(w.name).get();
+      var a = d.getMetadata().getAnnotations();
+      if (a != null && a.containsKey(Annotations.ROLLOUT)) {
+        return false;
+      }
+      if (JvmOptions.maxHeapBytes(options(d)).orElse(0) != Quantity.parseBytes(w.proposedHeap)) {
+        return false;
+      }
+      var s = d.getStatus();
+      if (s == null
+          || !Objects.equals(s.getUpdatedReplicas(), 1)
+          || !Objects.equals(s.getAvailableReplicas(), 1)
+          || !Objects.equals(s.getReplicas(), 1)) {
+        return false;
+      }
+    }
+    return true;
+  }
+
+  private static HeapPool heapPool(String ns, String name) {
+    return client.resources(HeapPool.class).inNamespace(ns).withName(name).get();
+  }
+
+  private static Condition condition(HeapPool p, String type) {
+    return p.getStatus().conditions.stream()
+        .filter(c -> c.getType().equals(type))
+        .findFirst()
+        .orElseThrow();
+  }
+
+  private static String reason(HeapPool p, String type) {
+    if (p == null || p.getStatus() == null) {
+      return "";
+    }
+    return p.getStatus().conditions.stream()
+        .filter(c -> c.getType().equals(type))
+        .map(Condition::getReason)
+        .findFirst()
+        .orElse("");
+  }
+
+  private static int rolling(String ns) {
+    return (int)
+        client.apps().deployments().inNamespace(ns).list().getItems().stream()
+            .filter(
+                d ->
+                    d.getMetadata().getAnnotations() != null
+                        && d.getMetadata().getAnnotations().containsKey(Annotations.ROLLOUT))
+            .count();
+  }
+
+  private static long replicaSets(String ns, String deployment) {
+    return client
+        .apps()
+        .replicaSets()
+        .inNamespace(ns)
+        .withLabel("app", deployment)
+        .list()
+        .getItems()
+        .size();
+  }
+
+  private static List<Pod> pods(String ns, String app) {
+    return client.pods().inNamespace(ns).withLabel("app", app).list().getItems();
+  }
+
+  /** Memory limits of every container of every pod that exists, terminating ones included. */
+  private static long podMemoryBytes(String ns) {
+    return client.pods().inNamespace(ns).list().getItems().stream()
+        .flatMap(p -> p.getSpec().getContainers().stream())
+        .map(c -> c.getResources().getLimits().get("memory"))
+        .filter(Objects::nonNull)
+        .mapToLong(q -> q.getNumericalAmount().longValue())
+        .sum();
+  }
+
+  private static String operatorPod() {
+    return client.pods().inNamespace(Chart.NAMESPACE).list().getItems().stream()
+        .filter(p -> p.getMetadata().getDeletionTimestamp() == null)
+        .map(p -> p.getMetadata().getName())
+        .findFirst()
+        .orElse("");
+  }
+
+  private static String options(Deployment d) {
+    return d.getSpec().getTemplate().getSpec().getContainers().get(0).getEnv().stream()
+        .filter(e -> e.getName().equals("JAVA_TOOL_OPTIONS"))
+        .findFirst()
+        .orElseThrow()
+        .getValue();
+  }
+
+  /** The synthetic workload's own account of its JVM, read from the port the agent gave it. */
+  private static JsonNode truth(Pod pod) throws Exception {
+    for (JsonNode group : JSON.readTree(agent.targets().toFile())) {
+      if (pod.getMetadata().getName().equals(group.path("labels").path("pod").asText())) {
+        String target = group.path("targets").get(0).asText();
+        var response =
+            HTTP.send(
+                HttpRequest.newBuilder(URI.create("http://" + target + "/truth")).build(),
+                HttpResponse.BodyHandlers.ofString());
+        return JSON.readTree(response.body());
+      }
+    }
+    throw new AssertionError(
+        "pod " + pod.getMetadata().getName() + " is not in the agent's targets");
+  }
+
+  /** The pool's measured GC time: pause seconds per second over the last minute, all pods. */
+  private static double poolGcSecondsPerSecond() throws Exception {
+    String query = "sum(rate(jvm_gc_pause_seconds_sum{namespace=\"" + NS + "\"}[60s]))";
+    var response =
+        HTTP.send(
+            HttpRequest.newBuilder(
+                    prometheus
+                        .uri()
+                        .resolve(
+                            "/api/v1/query?query="
+                                + URLEncoder.encode(query, StandardCharsets.UTF_8)))
+                .build(),
+            HttpResponse.BodyHandlers.ofString());
+    JsonNode result = JSON.readTree(response.body()).path("data").path("result");
+    assertThat(result).as(response.body()).hasSize(1);
+    return Double.parseDouble(result.get(0).path("value").get(1).asText());
+  }
+
+  private static String kubectl(String... args) throws Exception {
+    Path bin =
+        Path.of(
+            Objects.requireNonNull(
+                System.getenv("HEAPHERD_CONTROL_PLANE_BIN"), "HEAPHERD_CONTROL_PLANE_BIN"));
+    List<String> command =
+        new java.util.ArrayList<>(
+            List.of(bin.resolve("kubectl").toString(), "--kubeconfig=" + cluster.kubeconfig()));
+    command.addAll(List.of(args));
+    Process p = new ProcessBuilder(command).redirectErrorStream(true).start();
+    String out = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
+    assertThat(p.waitFor(30, TimeUnit.SECONDS)).isTrue();
+    return out;
+  }
+}
