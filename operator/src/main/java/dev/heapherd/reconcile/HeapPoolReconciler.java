@@ -149,7 +149,10 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
     Snapshot snapshot = metrics.measure(spec, v.namespace(), selected.keySet(), v.now());
     String metricsHeld = v.metricsCondition(spec, snapshot, selected.size());
     boolean anyInFlight = states.values().stream().anyMatch(s -> s.inFlight().isPresent());
-    v.propose(spec, states, kinds(selected), snapshot, anyInFlight, meters);
+    // The proposal being rolled out, or approved and not yet fully applied, stays published:
+    // fresh measurements of the first changed workloads must not replace what was approved.
+    boolean keep = anyInFlight || approvedAndPending(spec, v.status().proposal, states);
+    v.propose(spec, states, kinds(selected), snapshot, keep, meters);
 
     List<RolloutStep> steps = List.of();
     if ("Apply".equals(spec.mode())) {
@@ -226,6 +229,30 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
       v.held(h);
       meters.railTripped(v.namespace(), pool, h.rail().name());
     }
+  }
+
+  /**
+   * Apply mode with manual approval, the published proposal is the approved one, and some workload
+   * it changes still waits for its change (opted-out and rolled-back ones never will).
+   */
+  private static boolean approvedAndPending(
+      PoolFile spec, HeapPoolStatus.Proposal published, Map<String, WorkloadState> states) {
+    if (!"Apply".equals(spec.mode())
+        || spec.rollout().automaticApproval()
+        || published == null
+        || !published.hash.equals(spec.approvedProposal())) {
+      return false;
+    }
+    return ProposalBuilder.targets(published).entrySet().stream()
+        .anyMatch(
+            e -> {
+              WorkloadState s = states.get(e.getKey());
+              return s != null
+                  && !s.optedOut()
+                  && !s.rolledBack()
+                  && RolloutPlanner.heapChangePercent(s, e.getValue())
+                      >= spec.rollout().changeThresholdPercent();
+            });
   }
 
   /** The pool's workloads from the informer caches, sorted by name. */

@@ -102,13 +102,16 @@ final class PoolVisit {
     return held;
   }
 
-  /** Computes the proposal; while a rollout runs the published one stays, so it is finished. */
+  /**
+   * Computes the proposal. With {@code keepPublished} (a rollout runs, or the approved proposal is
+   * still being applied) the published one stays, so it is finished as approved.
+   */
   void propose(
       PoolFile spec,
       Map<String, WorkloadState> states,
       Map<String, String> kinds,
       Snapshot snapshot,
-      boolean rolling,
+      boolean keepPublished,
       OperatorMetrics meters) {
     ProposalBuilder.Result fresh;
     try {
@@ -116,6 +119,10 @@ final class PoolVisit {
     } catch (InputException e) {
       set(Conditions.PROPOSAL_READY, Conditions.FALSE, "CannotPlan", e.getMessage());
       set(Conditions.BUDGET_FEASIBLE, Conditions.UNKNOWN, "CannotPlan", "no plan was computed");
+      if (!keepPublished) {
+        // A proposal nobody is applying would only mislead once its inputs are gone.
+        status.proposal = null;
+      }
       return;
     }
     var plan = fresh.plan();
@@ -136,7 +143,7 @@ final class PoolVisit {
     }
     HeapPoolStatus.Proposal previous = status.proposal;
     HeapPoolStatus.Proposal chosen =
-        rolling && previous != null
+        keepPublished && previous != null
             ? previous
             : ProposalBuilder.sticky(
                 previous, fresh.proposal(), spec.rollout().changeThresholdPercent());

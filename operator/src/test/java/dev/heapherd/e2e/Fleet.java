@@ -68,7 +68,9 @@ final class Fleet {
         .withImage(WORKLOAD_IMAGE)
         .addNewEnv()
         .withName("JAVA_TOOL_OPTIONS")
-        .withValue("-Xmx" + s.heapMib() + "m -XX:+UseG1GC")
+        // Parallel reports old-generation collections apart from young ones on JDK 17, which
+        // the estimators need to see how GC time depends on the heap (docs/metrics.md).
+        .withValue("-Xmx" + s.heapMib() + "m -XX:+UseParallelGC")
         .endEnv()
         .addNewEnv()
         .withName("WORKLOAD_LIVE_MIB")

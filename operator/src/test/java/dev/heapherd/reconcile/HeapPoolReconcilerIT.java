@@ -140,6 +140,12 @@ class HeapPoolReconcilerIT {
       order.add(name);
       controller.roll(name, 1, samples::add);
       await().atMost(WAIT).until(() -> !rolling().contains(name));
+      // The changed workload now measures differently; the approved proposal still applies.
+      metrics.set(
+          List.of(
+              jvm("stock-ledger", 2, 700, 300, 0.6),
+              jvm("price-engine", 2, 512, 350, 9.0),
+              jvm("basket-service", 2, 768, 400, 2.0)));
     }
     await().atMost(WAIT).until(() -> readyReason().equals("InSync"));
     assertThat(order).as("the donor shrinks first").startsWith("stock-ledger").hasSize(3);

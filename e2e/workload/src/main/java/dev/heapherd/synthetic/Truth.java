@@ -24,6 +24,7 @@ public record Truth(
     long garbageBytesTotal,
     double allocatingSeconds,
     long maxHeapBytes,
+    long maxHeapSizeOptionBytes,
     List<String> collectorNames,
     Map<String, CollectorTotals> collectors,
     Map<String, HeapPoolUsage> heapPools,

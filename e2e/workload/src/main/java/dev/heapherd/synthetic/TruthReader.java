@@ -81,10 +81,25 @@ final class TruthReader {
         driver.garbageBytesTotal(),
         driver.allocatingSeconds(),
         Runtime.getRuntime().maxMemory(),
+        maxHeapSizeBytes(),
         collectorNames,
         collectors,
         heapPools,
         residentSetBytes());
+  }
+
+  /**
+   * The VM's MaxHeapSize option: the -Xmx it runs with, after its own alignment. Unlike
+   * Runtime.maxMemory it does not leave out a survivor space, so it compares with -Xmx under every
+   * collector. -1 on a VM without the HotSpot diagnostic bean.
+   */
+  static long maxHeapSizeBytes() {
+    var bean =
+        ManagementFactory.getPlatformMXBean(com.sun.management.HotSpotDiagnosticMXBean.class);
+    if (bean == null) {
+      return -1;
+    }
+    return Long.parseLong(bean.getVMOption("MaxHeapSize").getValue());
   }
 
   /** The resident set size from /proc, or -1 where there is no /proc (not Linux). */
