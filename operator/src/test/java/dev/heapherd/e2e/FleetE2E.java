@@ -34,8 +34,9 @@ import java.time.Duration;
 import java.util.List;
 import java.util.Map;
 import java.util.Objects;
+import java.util.concurrent.Executors;
+import java.util.concurrent.ScheduledExecutorService;
 import java.util.concurrent.TimeUnit;
-import java.util.concurrent.atomic.AtomicBoolean;
 import java.util.concurrent.atomic.AtomicInteger;
 import java.util.concurrent.atomic.AtomicLong;
 import org.junit.jupiter.api.AfterAll;
@@ -84,6 +85,12 @@ class FleetE2E {
   private static HeapPoolStatus.Proposal approved;
 
   private static double gcBefore;
+
+  /** How often pod memory is sampled while the pool rolls. */
+  private static final long SAMPLE_MILLIS = 200;
+
+  /** The window GC time is compared over: the pool's metrics window. */
+  private static final int GC_WINDOW_SECONDS = 60;
 
   @BeforeAll
   static void startTheWholeLoop() throws Exception {
@@ -170,23 +177,21 @@ class FleetE2E {
     long budget = BUDGET_MIB << 20;
     AtomicLong peak = new AtomicLong();
     AtomicInteger mostRolling = new AtomicInteger();
-    AtomicBoolean sampling = new AtomicBoolean(true);
-    Thread sampler =
-        new Thread(
-            () -> {
-              while (sampling.get()) {
-                try {
-                  peak.accumulateAndGet(podMemoryBytes(NS), Math::max);
-                  mostRolling.accumulateAndGet(rolling(NS), Math::max);
-                  Thread.sleep(200);
-                } catch (InterruptedException e) {
-                  return;
-                } catch (RuntimeException e) {
-                  // A list can fail while the API server is busy; the next sample counts.
-                }
-              }
-            });
-    sampler.start();
+    AtomicInteger samples = new AtomicInteger();
+    ScheduledExecutorService sampler = Executors.newSingleThreadScheduledExecutor();
+    sampler.scheduleWithFixedDelay(
+        () -> {
+          try {
+            peak.accumulateAndGet(podMemoryBytes(NS), Math::max);
+            mostRolling.accumulateAndGet(rolling(NS), Math::max);
+            samples.incrementAndGet();
+          } catch (RuntimeException e) {
+            // A list can fail while the API server is busy; the next sample counts.
+          }
+        },
+        0,
+        SAMPLE_MILLIS,
+        TimeUnit.MILLISECONDS);
     String operatorPod = operatorPod();
     client
         .resources(HeapPool.class)
@@ -205,8 +210,9 @@ class FleetE2E {
         .atMost(ROLLED)
         .pollInterval(Duration.ofSeconds(2))
         .until(FleetE2E::approvedProposalRunning);
-    sampling.set(false);
-    sampler.join();
+    sampler.shutdownNow();
+    assertThat(sampler.awaitTermination(10, TimeUnit.SECONDS)).isTrue();
+    assertThat(samples.get()).as("memory samples taken during the rollout").isGreaterThan(10);
 
     assertThat(operatorPod()).as("a new operator pod took over").isNotEqualTo(operatorPod);
     assertThat(peak.get())
@@ -225,9 +231,9 @@ class FleetE2E {
             .isCloseTo(target, org.assertj.core.data.Percentage.withPercentage(5));
       }
     }
-    // Let a whole measurement window pass on the new heaps before comparing GC time.
-    Thread.sleep(TimeUnit.SECONDS.toMillis(75));
     double gcAfter = poolGcSecondsPerSecond();
+    System.out.printf(
+        "pool GC time: %.4f s/s before, %.4f s/s after the approved proposal%n", gcBefore, gcAfter);
     assertThat(gcAfter).as("pool GC time after (before: %s s/s)", gcBefore).isLessThan(gcBefore);
   }
 
@@ -520,9 +526,30 @@ class FleetE2E {
         "pod " + pod.getMetadata().getName() + " is not in the agent's targets");
   }
 
-  /** The pool's measured GC time: pause seconds per second over the last minute, all pods. */
+  /**
+   * The pool's measured GC time: pause seconds per second over the last {@link #GC_WINDOW_SECONDS}
+   * of the pods running now, once each has been scraped that long (one-second scrapes).
+   */
   private static double poolGcSecondsPerSecond() throws Exception {
-    String query = "sum(rate(jvm_gc_pause_seconds_sum{namespace=\"" + NS + "\"}[60s]))";
+    String pods =
+        client.pods().inNamespace(NS).list().getItems().stream()
+            .filter(p -> p.getMetadata().getDeletionTimestamp() == null)
+            .map(p -> p.getMetadata().getName())
+            .collect(java.util.stream.Collectors.joining("|"));
+    String selector = "namespace=\"" + NS + "\",pod=~\"" + pods + "\"";
+    await()
+        .atMost(Duration.ofMinutes(3))
+        .pollInterval(Duration.ofSeconds(5))
+        .until(
+            () ->
+                query("min(count_over_time(up{" + selector + "}[" + GC_WINDOW_SECONDS + "s]))")
+                    >= GC_WINDOW_SECONDS - 5);
+    return query(
+        "sum(rate(jvm_gc_pause_seconds_sum{" + selector + "}[" + GC_WINDOW_SECONDS + "s]))");
+  }
+
+  /** One number from Prometheus' query API. */
+  private static double query(String promql) throws Exception {
     var response =
         HTTP.send(
             HttpRequest.newBuilder(
@@ -530,7 +557,7 @@ class FleetE2E {
                         .uri()
                         .resolve(
                             "/api/v1/query?query="
-                                + URLEncoder.encode(query, StandardCharsets.UTF_8)))
+                                + URLEncoder.encode(promql, StandardCharsets.UTF_8)))
                 .build(),
             HttpResponse.BodyHandlers.ofString());
     JsonNode result = JSON.readTree(response.body()).path("data").path("result");
