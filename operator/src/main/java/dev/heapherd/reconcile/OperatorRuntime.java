@@ -38,6 +38,12 @@ public final class OperatorRuntime implements AutoCloseable {
   private static final Duration RENEW_DEADLINE = Duration.ofSeconds(10);
   private static final Duration RETRY_PERIOD = Duration.ofSeconds(2);
 
+  /**
+   * How long a stop waits for running reconciles: our choice, well inside a pod's default 30 s
+   * termination grace (Kubernetes pod documentation).
+   */
+  private static final Duration RECONCILE_STOP_WAIT = Duration.ofSeconds(5);
+
   private OperatorRuntime(Operator operator) {
     this.operator = operator;
   }
@@ -52,7 +58,10 @@ public final class OperatorRuntime implements AutoCloseable {
                   // Status is ours alone, so a JSON merge patch of it is exact; it also works
                   // where server-side apply does not, such as Fabric8's mock server.
                   .withUseSSAToPatchPrimaryResource(false)
-                  .withCloseClientOnStop(true);
+                  .withCloseClientOnStop(true)
+                  // Reconciles are idempotent, so a stop need not wait long for one to finish;
+                  // this keeps shutdown inside a pod's termination grace.
+                  .withReconciliationTerminationTimeout(RECONCILE_STOP_WAIT);
               settings
                   .leaseNamespace()
                   .ifPresent(
