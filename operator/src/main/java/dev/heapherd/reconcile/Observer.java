@@ -153,10 +153,7 @@ public final class Observer {
   /** The pod belongs to the workload and runs the JVM options heapherd wrote. */
   private static boolean isNewPodOf(
       Pod pod, PoolWorkload w, PodTemplates.MemorySettings m, String variable) {
-    var labels = pod.getMetadata().getLabels();
-    if (labels == null
-        || w.podSelector().isEmpty()
-        || !labels.entrySet().containsAll(w.podSelector().entrySet())) {
+    if (!w.selects(pod.getMetadata().getLabels())) {
       return false;
     }
     return pod.getSpec().getContainers().stream()

@@ -2,6 +2,8 @@ package dev.heapherd.reconcile;
 
 import io.fabric8.kubernetes.api.model.HasMetadata;
 import io.fabric8.kubernetes.api.model.IntOrString;
+import io.fabric8.kubernetes.api.model.LabelSelector;
+import io.fabric8.kubernetes.api.model.LabelSelectorRequirement;
 import io.fabric8.kubernetes.api.model.PodTemplateSpec;
 import io.fabric8.kubernetes.api.model.apps.Deployment;
 import io.fabric8.kubernetes.api.model.apps.DeploymentBuilder;
@@ -57,15 +59,49 @@ public record PoolWorkload(HasMetadata resource) {
         : ((StatefulSet) resource).getSpec().getTemplate();
   }
 
-  /** The labels its pods carry, from its selector. */
-  public Map<String, String> podSelector() {
-    var selector =
+  /**
+   * Whether a pod with {@code podLabels} is one of this workload's, by its selector's labels and
+   * expressions (In, NotIn, Exists, DoesNotExist, as the Kubernetes label selector documentation
+   * defines them). A workload without a selector owns no pod.
+   */
+  public boolean selects(Map<String, String> podLabels) {
+    LabelSelector selector =
         resource instanceof Deployment d
             ? d.getSpec().getSelector()
             : ((StatefulSet) resource).getSpec().getSelector();
-    return selector == null || selector.getMatchLabels() == null
-        ? Map.of()
-        : selector.getMatchLabels();
+    if (selector == null) {
+      return false;
+    }
+    Map<String, String> labels = podLabels == null ? Map.of() : podLabels;
+    boolean any = false;
+    if (selector.getMatchLabels() != null) {
+      any |= !selector.getMatchLabels().isEmpty();
+      if (!labels.entrySet().containsAll(selector.getMatchLabels().entrySet())) {
+        return false;
+      }
+    }
+    for (LabelSelectorRequirement r :
+        selector.getMatchExpressions() == null
+            ? java.util.List.<LabelSelectorRequirement>of()
+            : selector.getMatchExpressions()) {
+      any = true;
+      String value = labels.get(r.getKey());
+      var values = r.getValues() == null ? java.util.List.<String>of() : r.getValues();
+      boolean ok =
+          switch (r.getOperator()) {
+            case "In" -> value != null && values.contains(value);
+            case "NotIn" -> value == null || !values.contains(value);
+            case "Exists" -> value != null;
+            case "DoesNotExist" -> value == null;
+            default -> false;
+          };
+      if (!ok) {
+        return false;
+      }
+    }
+    // An empty selector would match every pod of the namespace; Kubernetes refuses one for
+    // Deployments and StatefulSets, so treat it as owning none.
+    return any;
   }
 
   /** Desired pods; Kubernetes defaults an unset count to 1. */
