@@ -9,15 +9,19 @@ mvn_batch() {
   mvn -B -ntp "$@"
 }
 
-# Real-component tests start Debian's Prometheus server; install it once when missing.
-need_prometheus() {
-  if [ ! -x /usr/bin/prometheus ]; then
-    echo "Installing Debian's prometheus package for the real-component tests..."
-    if [ "$(id -u)" -eq 0 ]; then
-      apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq prometheus >/dev/null
-    else
-      sudo apt-get update -qq && sudo DEBIAN_FRONTEND=noninteractive apt-get install -y -qq prometheus >/dev/null
-    fi
+# Real-component tests start Debian's Prometheus server, and the control plane's scripts use
+# openssl and curl; install whichever is missing, once.
+need_packages() {
+  local missing=()
+  [ -x /usr/bin/prometheus ] || missing+=(prometheus)
+  command -v openssl >/dev/null || missing+=(openssl)
+  command -v curl >/dev/null || missing+=(curl)
+  if [ ${#missing[@]} -gt 0 ]; then
+    echo "Installing Debian packages for the real-component tests: ${missing[*]}"
+    local sudo=()
+    [ "$(id -u)" -eq 0 ] || sudo=(sudo)
+    "${sudo[@]}" apt-get update -qq
+    DEBIAN_FRONTEND=noninteractive "${sudo[@]}" apt-get install -y -qq "${missing[@]}" >/dev/null
   fi
 }
 
@@ -28,7 +32,7 @@ case "${1:-}" in
       --pool docs/examples/pool.yaml --snapshot docs/examples/snapshot.yaml
     ;;
   test)
-    need_prometheus
+    need_packages
     # The real control plane (etcd, kube-apiserver, kube-controller-manager) is compiled from Go
     # modules once and cached by the hash of its go.sum; build.sh says how long it took.
     HEAPHERD_CONTROL_PLANE_BIN="$(e2e/control-plane/build.sh)"
