@@ -102,7 +102,11 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
     HeapPoolStatus before = pool.getStatus();
     HeapPoolStatus status = before == null ? new HeapPoolStatus() : JSON.clone(before);
     PoolVisit visit = new PoolVisit(pool, status, now, new PoolEvents(context.getClient()));
-    boolean rolling = visit(visit, new RolloutWriter(context.getClient()));
+    boolean rolling =
+        visit(
+            visit,
+            new RolloutWriter(context.getClient()),
+            context.getPrimaryCache().list(pool.getMetadata().getNamespace()).toList());
     status.observedGeneration = pool.getMetadata().getGeneration();
     meters.reconciled(
         visit.namespace(), pool.getMetadata().getName(), Duration.between(now, clock.instant()));
@@ -117,7 +121,7 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
   }
 
   /** One visit: returns whether a rollout is running, so the pool is looked at again soon. */
-  private boolean visit(PoolVisit v, RolloutWriter writer) {
+  private boolean visit(PoolVisit v, RolloutWriter writer, List<HeapPool> poolsOfNamespace) {
     PoolFile spec;
     try {
       spec = PoolSpecs.read(v.pool());
@@ -138,6 +142,11 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
     String problem = checkContainers(found, spec.rollout());
     if (!problem.isEmpty()) {
       v.degraded("WorkloadNotChangeable", problem);
+      return false;
+    }
+    String shared = sharedWithOtherPools(v.pool(), found, poolsOfNamespace);
+    if (!shared.isEmpty()) {
+      v.degraded("WorkloadInTwoPools", shared);
       return false;
     }
     Map<String, PoolWorkload> selected = new LinkedHashMap<>();
@@ -264,6 +273,38 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
         .map(PoolWorkload::new)
         .sorted(java.util.Comparator.comparing(PoolWorkload::name))
         .toList();
+  }
+
+  /**
+   * Workloads another valid pool of the namespace also selects. Two pools resizing one workload
+   * would undo each other's changes and count its memory twice, so both stop until an admin narrows
+   * a selector.
+   */
+  private static String sharedWithOtherPools(
+      HeapPool pool, List<PoolWorkload> found, List<HeapPool> poolsOfNamespace) {
+    List<String> shared = new ArrayList<>();
+    for (HeapPool other : poolsOfNamespace) {
+      if (other.getMetadata().getName().equals(pool.getMetadata().getName())) {
+        continue;
+      }
+      PoolFile otherSpec;
+      try {
+        otherSpec = PoolSpecs.read(other);
+      } catch (InputException e) {
+        // An invalid pool changes nothing, so it shares nothing.
+        continue;
+      }
+      for (PoolWorkload w : found) {
+        if (w.labels().entrySet().containsAll(otherSpec.matchLabels().entrySet())) {
+          shared.add(w.name() + " (also in pool " + other.getMetadata().getName() + ")");
+        }
+      }
+    }
+    return shared.isEmpty()
+        ? ""
+        : "workloads selected by more than one pool: "
+            + String.join(", ", shared)
+            + "; narrow a selector so each workload is in one pool";
   }
 
   /** Why some workload cannot be resized as the spec says, or empty. */

@@ -371,6 +371,19 @@ class HeapPoolReconcilerIT {
   }
 
   @Test
+  void twoPoolsSelectingOneWorkloadBothStop() {
+    Map<String, String> before = versions();
+    createPool("orders", "Apply", "memoryBudget: 8Gi\n  rollout:\n    approval: Automatic");
+    createPool("orders-copy", "Apply", "memoryBudget: 8Gi\n  rollout:\n    approval: Automatic");
+    start();
+    await().atMost(WAIT).until(() -> degradedReason("orders").equals("WorkloadInTwoPools"));
+    await().atMost(WAIT).until(() -> degradedReason("orders-copy").equals("WorkloadInTwoPools"));
+    assertThat(condition(pool("orders"), "Degraded").getMessage())
+        .contains("stock-ledger (also in pool orders-copy)");
+    assertThat(versions()).isEqualTo(before);
+  }
+
+  @Test
   void badPoolsAreReportedAndNothingIsPatched() {
     Map<String, String> before = versions();
     start();
