@@ -4,6 +4,7 @@ import static org.assertj.core.api.Assertions.assertThat;
 import static org.assertj.core.api.Assertions.within;
 import static org.awaitility.Awaitility.await;
 
+import dev.heapherd.harness.PrometheusServer;
 import dev.heapherd.input.Snapshot;
 import java.nio.file.Files;
 import java.nio.file.Path;

@@ -5,6 +5,7 @@ import static org.awaitility.Awaitility.await;
 
 import dev.heapherd.engine.GcConstants;
 import dev.heapherd.engine.GcModel;
+import dev.heapherd.harness.PrometheusServer;
 import dev.heapherd.input.Snapshot;
 import java.nio.file.Files;
 import java.nio.file.Path;

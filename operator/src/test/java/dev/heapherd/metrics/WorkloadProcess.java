@@ -4,6 +4,7 @@ import static org.awaitility.Awaitility.await;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
+import dev.heapherd.harness.PrometheusServer;
 import java.io.IOException;
 import java.net.URI;
 import java.net.http.HttpClient;

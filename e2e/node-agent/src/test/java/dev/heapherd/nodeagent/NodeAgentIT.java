@@ -5,6 +5,8 @@ import static org.awaitility.Awaitility.await;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
+import dev.heapherd.harness.ControlPlane;
+import dev.heapherd.harness.PrometheusServer;
 import io.fabric8.kubernetes.api.model.ContainerState;
 import io.fabric8.kubernetes.api.model.ContainerStatus;
 import io.fabric8.kubernetes.api.model.EnvVar;
@@ -69,7 +71,7 @@ class NodeAgentIT {
   private static ControlPlane controlPlane;
   private static NodeAgent agent;
   private static KubernetesClient client;
-  private static PrometheusProcess prometheus;
+  private static PrometheusServer prometheus;
   private static Path fileSd;
 
   @BeforeAll
@@ -99,7 +101,7 @@ class NodeAgentIT {
         new KubernetesClientBuilder()
             .withConfig(Config.fromKubeconfig(Files.readString(controlPlane.kubeconfig())))
             .build();
-    prometheus = PrometheusProcess.start(work.resolve("prometheus"), fileSd);
+    prometheus = PrometheusServer.scraping(work.resolve("prometheus"), fileSd);
   }
 
   @AfterAll

@@ -1,4 +1,4 @@
-package dev.heapherd.metrics;
+package dev.heapherd.harness;
 
 import static org.awaitility.Awaitility.await;
 
@@ -23,10 +23,10 @@ import java.util.concurrent.TimeUnit;
 public final class PrometheusServer implements AutoCloseable {
 
   /** Where Debian's package installs the server. */
-  static final Path BINARY = Path.of("/usr/bin/prometheus");
+  public static final Path BINARY = Path.of("/usr/bin/prometheus");
 
   /** One scrape a second: windows of tens of seconds then hold enough samples. */
-  static final int SCRAPE_INTERVAL_SECONDS = 1;
+  public static final int SCRAPE_INTERVAL_SECONDS = 1;
 
   /** How long the server gets to start or stop. */
   private static final Duration STARTUP = Duration.ofSeconds(60);
@@ -37,7 +37,7 @@ public final class PrometheusServer implements AutoCloseable {
   private Process process;
 
   /** A target to scrape and the labels it carries, such as namespace and pod. */
-  record Target(String hostPort, Map<String, String> labels) {}
+  public record Target(String hostPort, Map<String, String> labels) {}
 
   private PrometheusServer(Path dir, Path targets, int port) {
     this.dir = dir;
@@ -46,7 +46,8 @@ public final class PrometheusServer implements AutoCloseable {
   }
 
   /** Starts a server with no targets yet, storing its data under {@code dir}. */
-  static PrometheusServer start(Path dir) throws IOException {
+  public static PrometheusServer start(Path dir) throws IOException {
+    Files.createDirectories(dir);
     PrometheusServer server = new PrometheusServer(dir, dir.resolve("targets.json"), freePort());
     server.setTargets(List.of());
     server.launch();
@@ -55,6 +56,7 @@ public final class PrometheusServer implements AutoCloseable {
 
   /** Starts a server scraping the file_sd list another process (the node agent) writes. */
   public static PrometheusServer scraping(Path dir, Path targetsFile) throws IOException {
+    Files.createDirectories(dir);
     PrometheusServer server = new PrometheusServer(dir, targetsFile, freePort());
     server.launch();
     return server;
@@ -66,7 +68,7 @@ public final class PrometheusServer implements AutoCloseable {
   }
 
   /** Replaces the scraped targets; Prometheus rereads the file within a second. */
-  void setTargets(List<Target> list) throws IOException {
+  public void setTargets(List<Target> list) throws IOException {
     StringBuilder json = new StringBuilder("[");
     for (int i = 0; i < list.size(); i++) {
       Target t = list.get(i);
@@ -81,6 +83,28 @@ public final class PrometheusServer implements AutoCloseable {
     Path tmp = dir.resolve("targets.json.tmp");
     Files.writeString(tmp, json.append("]").toString());
     Files.move(tmp, targets, java.nio.file.StandardCopyOption.ATOMIC_MOVE);
+  }
+
+  /** The value of an instant query that yields one number; 0 when it yields none. */
+  public double scalar(String promql) throws IOException, InterruptedException {
+    HttpResponse<String> response =
+        HttpClient.newHttpClient()
+            .send(
+                HttpRequest.newBuilder(
+                        uri()
+                            .resolve(
+                                "/api/v1/query?query="
+                                    + java.net.URLEncoder.encode(
+                                        promql, java.nio.charset.StandardCharsets.UTF_8)))
+                    .timeout(Duration.ofSeconds(5))
+                    .build(),
+                HttpResponse.BodyHandlers.ofString());
+    var result =
+        new com.fasterxml.jackson.databind.ObjectMapper()
+            .readTree(response.body())
+            .path("data")
+            .path("result");
+    return result.isEmpty() ? 0 : result.get(0).path("value").get(1).asDouble();
   }
 
   /** Starts the process again after {@link #stop()}, on the same port and data. */

@@ -1,4 +1,4 @@
-package dev.heapherd.cluster;
+package dev.heapherd.harness;
 
 import io.fabric8.kubernetes.client.Config;
 import io.fabric8.kubernetes.client.KubernetesClient;
@@ -17,8 +17,11 @@ import java.util.concurrent.TimeUnit;
  */
 public final class ControlPlane implements AutoCloseable {
 
-  /** Start-up includes certificate generation and, on a cold machine, nothing else: build first. */
-  private static final long START_TIMEOUT_SECONDS = 180;
+  /**
+   * Start-up generates certificates and waits for readiness (seconds); without a prebuilt
+   * HEAPHERD_CONTROL_PLANE_BIN it also compiles the control plane, about 13 minutes on 2 cores.
+   */
+  private static final long START_TIMEOUT_SECONDS = 20 * 60;
 
   private static final long STOP_TIMEOUT_SECONDS = 60;
 
@@ -32,16 +35,35 @@ public final class ControlPlane implements AutoCloseable {
     this.kubeconfig = kubeconfig;
   }
 
-  /** The scripts' folder, from {@code heapherd.control-plane.dir} or the repository layout. */
+  /**
+   * The scripts' folder: {@code heapherd.control-plane.dir} when set, else e2e/control-plane of the
+   * repository the tests run in, found from the working folder upwards.
+   */
   public static Path scripts() {
-    return Path.of(System.getProperty("heapherd.control-plane.dir", "../e2e/control-plane"))
-        .toAbsolutePath()
-        .normalize();
+    String configured = System.getProperty("heapherd.control-plane.dir", "");
+    if (!configured.isBlank()) {
+      return Path.of(configured).toAbsolutePath().normalize();
+    }
+    for (Path dir = Path.of("").toAbsolutePath(); dir != null; dir = dir.getParent()) {
+      Path scripts = dir.resolve("e2e/control-plane");
+      if (Files.isRegularFile(scripts.resolve("start.sh"))) {
+        return scripts;
+      }
+    }
+    throw new IllegalStateException(
+        "e2e/control-plane not found above "
+            + Path.of("").toAbsolutePath()
+            + "; set heapherd.control-plane.dir");
   }
 
   /** Starts a control plane with its state in a fresh temporary folder. */
   public static ControlPlane start() throws IOException, InterruptedException {
-    Path state = Files.createTempDirectory("heapherd-control-plane");
+    return start(Files.createTempDirectory("heapherd-control-plane"));
+  }
+
+  /** Starts a control plane with its state in {@code state}. */
+  public static ControlPlane start(Path state) throws IOException, InterruptedException {
+    Files.createDirectories(state);
     Path log = state.resolve("start.out");
     Process p =
         new ProcessBuilder(
