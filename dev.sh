@@ -40,13 +40,13 @@ case "${1:-}" in
     mvn_batch verify
     ;;
   crds)
-    mvn_batch -q -pl operator -DskipTests -Dspotless.check.skip=true process-classes
+    mvn_batch -q -pl operator -am -DskipTests -Dspotless.check.skip=true process-classes
     cp operator/target/classes/META-INF/fabric8/heappools.heapherd.dev-v1.yml crds/
     cp crds/heappools.heapherd.dev-v1.yml helm/heapherd/crds/
     echo "crds/ and helm/heapherd/crds/ updated"
     ;;
   bench)
-    mvn_batch -q -Pbench -pl operator -DskipTests -Dspotless.check.skip=true verify
+    mvn_batch -q -Pbench -pl operator -am -DskipTests -Dspotless.check.skip=true verify
     ;;
   *)
     echo "usage: ./dev.sh demo|test|bench|crds" >&2
