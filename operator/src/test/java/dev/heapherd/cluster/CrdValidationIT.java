@@ -7,13 +7,11 @@ import dev.heapherd.api.HeapPool;
 import dev.heapherd.harness.ControlPlane;
 import io.fabric8.kubernetes.api.model.GenericKubernetesResource;
 import io.fabric8.kubernetes.api.model.NamespaceBuilder;
-import io.fabric8.kubernetes.api.model.apiextensions.v1.CustomResourceDefinition;
 import io.fabric8.kubernetes.client.KubernetesClient;
 import io.fabric8.kubernetes.client.KubernetesClientException;
 import io.fabric8.kubernetes.client.utils.Serialization;
 import java.nio.file.Files;
 import java.nio.file.Path;
-import java.util.concurrent.TimeUnit;
 import java.util.stream.Stream;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
@@ -37,24 +35,7 @@ class CrdValidationIT {
   static void startCluster() throws Exception {
     cluster = ControlPlane.start();
     client = cluster.client();
-    CustomResourceDefinition crd =
-        Serialization.unmarshal(
-            Files.newInputStream(Path.of("../crds/heappools.heapherd.dev-v1.yml")),
-            CustomResourceDefinition.class);
-    client.apiextensions().v1().customResourceDefinitions().resource(crd).create();
-    client
-        .apiextensions()
-        .v1()
-        .customResourceDefinitions()
-        .withName(crd.getMetadata().getName())
-        .waitUntilCondition(
-            c ->
-                c.getStatus() != null
-                    && c.getStatus().getConditions().stream()
-                        .anyMatch(
-                            x -> x.getType().equals("Established") && x.getStatus().equals("True")),
-            60,
-            TimeUnit.SECONDS);
+    ControlPlane.installCrd(client, Path.of("../crds/heappools.heapherd.dev-v1.yml"));
     client
         .namespaces()
         .resource(

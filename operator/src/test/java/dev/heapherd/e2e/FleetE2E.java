@@ -18,7 +18,6 @@ import io.fabric8.kubernetes.api.model.GenericKubernetesResource;
 import io.fabric8.kubernetes.api.model.HasMetadata;
 import io.fabric8.kubernetes.api.model.NamespaceBuilder;
 import io.fabric8.kubernetes.api.model.Pod;
-import io.fabric8.kubernetes.api.model.apiextensions.v1.CustomResourceDefinition;
 import io.fabric8.kubernetes.api.model.apps.Deployment;
 import io.fabric8.kubernetes.client.KubernetesClient;
 import io.fabric8.kubernetes.client.utils.Serialization;
@@ -332,24 +331,7 @@ class FleetE2E {
 
   private static void installChart() throws Exception {
     for (Path file : Files.newDirectoryStream(Chart.DIR.resolve("crds"))) {
-      CustomResourceDefinition crd =
-          Serialization.unmarshal(Files.newInputStream(file), CustomResourceDefinition.class);
-      client.resource(crd).create();
-      client
-          .apiextensions()
-          .v1()
-          .customResourceDefinitions()
-          .withName(crd.getMetadata().getName())
-          .waitUntilCondition(
-              c ->
-                  c.getStatus() != null
-                      && c.getStatus().getConditions().stream()
-                          .anyMatch(
-                              x ->
-                                  x.getType().equals("Established")
-                                      && x.getStatus().equals("True")),
-              60,
-              TimeUnit.SECONDS);
+      ControlPlane.installCrd(client, file);
     }
     client
         .namespaces()

@@ -92,6 +92,33 @@ public final class ControlPlane implements AutoCloseable {
         .build();
   }
 
+  /** How long a new CRD may take to be served: seconds on this control plane. */
+  private static final long ESTABLISHED_TIMEOUT_SECONDS = 60;
+
+  /** Creates the CRD in {@code file} and waits until the API server serves it. */
+  public static void installCrd(KubernetesClient client, Path file) throws IOException {
+    io.fabric8.kubernetes.api.model.apiextensions.v1.CustomResourceDefinition crd;
+    try (var in = Files.newInputStream(file)) {
+      crd =
+          io.fabric8.kubernetes.client.utils.Serialization.unmarshal(
+              in, io.fabric8.kubernetes.api.model.apiextensions.v1.CustomResourceDefinition.class);
+    }
+    client.resource(crd).create();
+    client
+        .apiextensions()
+        .v1()
+        .customResourceDefinitions()
+        .withName(crd.getMetadata().getName())
+        .waitUntilCondition(
+            c ->
+                c.getStatus() != null
+                    && c.getStatus().getConditions().stream()
+                        .anyMatch(
+                            x -> x.getType().equals("Established") && x.getStatus().equals("True")),
+            ESTABLISHED_TIMEOUT_SECONDS,
+            TimeUnit.SECONDS);
+  }
+
   @Override
   public void close() throws IOException, InterruptedException {
     stop(state);
