@@ -5,9 +5,10 @@ import java.util.HashSet;
 import java.util.List;
 
 /**
- * Divides memory among a pool's workloads by the square-root heap limit rule: each heap gets {@code
- * E_i = E0_i + c * sqrt(w_i * k_i)} of headroom over live, clamped to its bounds, with one level
- * {@code c} for the pool. Pure: no I/O.
+ * Divides memory among a pool's workloads so that every unbounded heap sits at one marginal GC cost
+ * per byte: with only the old part this is the square-root heap limit rule, {@code E_i = E0_i + c *
+ * sqrt(w_i * k_i)} of headroom over live, clamped to its bounds, with one level {@code c} for the
+ * pool; with a young part too the heap solves {@link MarginalFilling}'s equation. Pure: no I/O.
  */
 public final class Allocator {
 
@@ -31,8 +32,9 @@ public final class Allocator {
     double[] high = new double[size];
     double[] count = new double[size];
     double[] live = new double[size];
-    double[] liveAndOffset = new double[size];
-    double[] pull = new double[size];
+    double[] thrash = new double[size];
+    double[] youngPull = new double[size];
+    double[] oldPull = new double[size];
     double[] none = new double[size];
     double[] one = new double[size];
     double overheadBytes = 0;
@@ -44,13 +46,14 @@ public final class Allocator {
       high[i] = bounds[i].highBytes();
       count[i] = w.replicas();
       live[i] = w.liveBytes();
-      liveAndOffset[i] = (double) w.liveBytes() + w.gc().offsetBytes();
-      pull[i] = w.pull();
+      thrash[i] = w.gc().thrashingHeapBytes(w.liveBytes());
+      youngPull[i] = w.youngPull();
+      oldPull[i] = w.oldPull();
       one[i] = 1;
       overheadBytes += (double) w.replicas() * w.podOverheadBytes();
       minimumBudget = addPods(minimumBudget, w, bounds[i].lowBytes());
     }
-    WaterFilling optimum = new WaterFilling(liveAndOffset, pull, low, high, count);
+    MarginalFilling optimum = new MarginalFilling(thrash, youngPull, oldPull, low, high, count);
 
     boolean feasible;
     double level;
@@ -135,6 +138,9 @@ public final class Allocator {
   }
 
   private static Bound boundAt(double optimalHeapBytes, HeapBounds bounds) {
+    if (bounds.lowBound() == Bound.KEPT) {
+      return Bound.KEPT;
+    }
     if (bounds.lowBytes() == bounds.highBytes()
         || optimalHeapBytes <= bounds.lowBytes() + BOUND_SNAP_BYTES) {
       return bounds.lowBound();

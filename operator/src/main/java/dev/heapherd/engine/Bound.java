@@ -9,7 +9,9 @@ public enum Bound {
   /** The absolute maximum heap. */
   CEILING("ceiling"),
   /** The limit on change per step relative to the current heap. */
-  STEP("step");
+  STEP("step"),
+  /** Kept at today's heap: no GC time was measured, so nothing predicts what a change would do. */
+  KEPT("kept-unpredictable");
 
   private final String label;
 

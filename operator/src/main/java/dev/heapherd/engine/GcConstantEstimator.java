@@ -3,8 +3,8 @@ package dev.heapherd.engine;
 /** Names the estimator that produced a workload's GC constant, so every number can be traced. */
 public enum GcConstantEstimator {
   /**
-   * {@code k = (measured GC time rate - Y) * (current heap - live - E0)}: calibrated from the heap
-   * the workload runs with now.
+   * {@code k = (measured old GC time rate) * (old capacity now - live - E0)} and {@code a = (young
+   * GC time rate) * (young capacity now)}: calibrated from the heap the workload runs with now.
    */
   CURRENT_HEADROOM("current-headroom"),
   /**
@@ -13,7 +13,17 @@ public enum GcConstantEstimator {
    */
   PROMOTION_MODEL("promotion-model"),
   /**
-   * No heap-dependent GC time was measured and no model inputs exist: k = 0, heap stays at floor.
+   * Only young collections were measured: the young constant is calibrated from the heap now and
+   * the old part is 0 (no old-generation collection in the window).
+   */
+  YOUNG_ONLY("young-only"),
+  /**
+   * Constants fitted by bounded least squares to the (heap, GC time) points of earlier rollouts.
+   */
+  HISTORY_FIT("history-fit"),
+  /**
+   * No GC time was measured and no model inputs exist: nothing predicts what a change would do, so
+   * the heap is kept where it is.
    */
   NO_HEAP_DEPENDENT_GC("no-heap-dependent-gc");
 

@@ -16,14 +16,25 @@ public record HeapBounds(long lowBytes, Bound lowBound, long highBytes, Bound hi
    */
   static final long MIN_USABLE_HEADROOM_BYTES = Units.MIB;
 
-  /** Resolves a workload's rules against its live bytes and current heap. */
+  /**
+   * Resolves a workload's rules against its live bytes and current heap. The floors apply to the
+   * old generation, which holds live objects: under Serial and Parallel it is only part of the heap.
+   * A workload whose curve is flat keeps today's heap: nothing predicts what a change would do.
+   */
   public static HeapBounds of(Workload w) {
     HeapRules rules = w.rules();
+    GcModel gc = w.gc();
+    double oldShare = gc.generations().oldShare();
     double safeFloor =
         Math.max(
             Math.max(
-                (double) rules.minHeapBytes(), w.liveBytes() * (1 + rules.minHeadroomFraction())),
-            (double) w.liveBytes() + w.gc().offsetBytes() + MIN_USABLE_HEADROOM_BYTES);
+                (double) rules.minHeapBytes(),
+                w.startupLiveBytes() * (1 + rules.minHeadroomFraction()) / oldShare),
+            gc.thrashingHeapBytes(w.liveBytes()) + MIN_USABLE_HEADROOM_BYTES / oldShare);
+    if (gc.flat()) {
+      long kept = Math.max(roundUp(safeFloor), Units.roundDownToMib(w.currentHeapBytes()));
+      return new HeapBounds(kept, Bound.KEPT, kept, Bound.KEPT);
+    }
     double stepFloor = w.currentHeapBytes() * (1 - Math.min(1, rules.maxStepFraction()));
     double stepCeiling = w.currentHeapBytes() * (1 + rules.maxStepFraction());
 

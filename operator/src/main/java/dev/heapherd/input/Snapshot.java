@@ -3,6 +3,7 @@ package dev.heapherd.input;
 import java.time.Instant;
 import java.util.List;
 import java.util.OptionalDouble;
+import java.util.OptionalLong;
 
 /**
  * Per-workload metrics over one window: the input a plan is computed from.
@@ -61,12 +62,14 @@ public record Snapshot(
    * @param heapMaxBytes the heap limit the pods run with
    * @param liveBytes live bytes after a major or concurrent cycle
    * @param gcSecondsPerSecond total GC time rate
-   * @param youngGcSecondsPerSecond the part of it that does not depend on heap size (Y)
+   * @param youngGcSecondsPerSecond the part of it spent in young collections (on G1 before JDK
+   *     20 mixed collections too), which falls as the young generation grows with the heap
    * @param offsetBytes headroom below which the collector thrashes (E0)
    * @param promotionBytesPerSecond bytes entering the old generation per second, if measured
    * @param collectorBytesPerSecond live bytes traced per second of GC time, if measured
    * @param nonHeapBytes memory beyond the heap: high-water of RSS minus committed heap
    * @param evidence how much to trust these numbers
+   * @param layout generation sizes, start-up need and the heap-independent GC time, where known
    */
   public record Workload(
       String name,
@@ -81,5 +84,32 @@ public record Snapshot(
       OptionalDouble promotionBytesPerSecond,
       OptionalDouble collectorBytesPerSecond,
       long nonHeapBytes,
-      Evidence evidence) {}
+      Evidence evidence,
+      Layout layout) {}
+
+  /**
+   * What a workload's generations hold and need, where measured or declared.
+   *
+   * @param youngCapacityBytes young-generation capacity (eden plus survivors) under the current heap
+   * @param oldCapacityBytes old-generation maximum under the current heap
+   * @param startupLiveBytes the most held after a collection since the pods started
+   * @param allocationBytesPerSecond bytes allocated per second
+   * @param steadyGcSecondsPerSecond GC time that no heap size changes (Y), 0 when not known
+   */
+  public record Layout(
+      OptionalLong youngCapacityBytes,
+      OptionalLong oldCapacityBytes,
+      OptionalLong startupLiveBytes,
+      OptionalDouble allocationBytesPerSecond,
+      double steadyGcSecondsPerSecond) {
+
+    /** Nothing known beyond the required fields: a snapshot written by hand. */
+    public static final Layout UNKNOWN =
+        new Layout(
+            OptionalLong.empty(),
+            OptionalLong.empty(),
+            OptionalLong.empty(),
+            OptionalDouble.empty(),
+            0);
+  }
 }

@@ -6,6 +6,7 @@ import java.time.format.DateTimeParseException;
 import java.util.ArrayList;
 import java.util.HashSet;
 import java.util.List;
+import java.util.OptionalLong;
 import java.util.Set;
 
 /** Reads and validates a metrics snapshot file. */
@@ -41,6 +42,11 @@ public final class SnapshotReader {
           "promotionBytesPerSecond",
           "collectorBytesPerSecond",
           "nonHeapBytes",
+          "youngCapacityBytes",
+          "oldCapacityBytes",
+          "startupLiveBytes",
+          "allocationBytesPerSecond",
+          "steadyGcSecondsPerSecond",
           "sampleCount",
           "confidence",
           "notes");
@@ -112,7 +118,22 @@ public final class SnapshotReader {
     double young = f.optionalNonNegativeNumber("youngGcSecondsPerSecond").orElse(0);
     if (young > gc) {
       throw f.required("youngGcSecondsPerSecond")
+          .error("is above gcSecondsPerSecond: the young part cannot exceed the total");
+    }
+    double steady = f.optionalNonNegativeNumber("steadyGcSecondsPerSecond").orElse(0);
+    if (steady > gc) {
+      throw f.required("steadyGcSecondsPerSecond")
           .error("is above gcSecondsPerSecond: the heap-independent part cannot exceed the total");
+    }
+    OptionalLong youngCapacity = capacity(f, "youngCapacityBytes", heap);
+    OptionalLong oldCapacity = capacity(f, "oldCapacityBytes", heap);
+    if (oldCapacity.isPresent() && oldCapacity.getAsLong() <= live + offset) {
+      throw f.required("oldCapacityBytes")
+          .error("does not hold the live bytes plus offset: the old generation would thrash");
+    }
+    Long startup = f.positiveBytesOrNull("startupLiveBytes");
+    if (startup != null && startup < live) {
+      throw f.required("startupLiveBytes").error("is below liveBytes: it is the most held since start");
     }
     var collectorSpeed = f.optionalNonNegativeNumber("collectorBytesPerSecond");
     if (collectorSpeed.isPresent()
@@ -132,7 +153,26 @@ public final class SnapshotReader {
         f.optionalNonNegativeNumber("promotionBytesPerSecond"),
         collectorSpeed,
         f.required("nonHeapBytes").nonNegativeBytes(),
-        evidence(f));
+        evidence(f),
+        new Snapshot.Layout(
+            youngCapacity,
+            oldCapacity,
+            startup == null ? OptionalLong.empty() : OptionalLong.of(startup),
+            f.optionalNonNegativeNumber("allocationBytesPerSecond"),
+            steady));
+  }
+
+  /** A generation's capacity: positive and at most the heap. */
+  private static OptionalLong capacity(Field f, String name, long heapBytes)
+      throws InputException {
+    Long bytes = f.positiveBytesOrNull(name);
+    if (bytes == null) {
+      return OptionalLong.empty();
+    }
+    if (bytes > heapBytes) {
+      throw f.required(name).error("is above heapMaxBytes: a generation is part of the heap");
+    }
+    return OptionalLong.of(bytes);
   }
 
   private static Snapshot.Evidence evidence(Field f) throws InputException {

@@ -5,6 +5,8 @@ import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.dataformat.yaml.YAMLGenerator;
 import com.fasterxml.jackson.dataformat.yaml.YAMLMapper;
 import java.util.List;
+import java.util.OptionalDouble;
+import java.util.OptionalLong;
 
 /** Writes a snapshot in the format {@link SnapshotReader} reads. */
 public final class SnapshotWriter {
@@ -43,6 +45,11 @@ public final class SnapshotWriter {
       Double promotionBytesPerSecond,
       Double collectorBytesPerSecond,
       long nonHeapBytes,
+      Long youngCapacityBytes,
+      Long oldCapacityBytes,
+      Long startupLiveBytes,
+      Double allocationBytesPerSecond,
+      Double steadyGcSecondsPerSecond,
       Long sampleCount,
       String confidence,
       List<String> notes) {}
@@ -65,13 +72,16 @@ public final class SnapshotWriter {
                         w.gcSecondsPerSecond(),
                         w.youngGcSecondsPerSecond(),
                         w.offsetBytes(),
-                        w.promotionBytesPerSecond().isPresent()
-                            ? w.promotionBytesPerSecond().getAsDouble()
-                            : null,
-                        w.collectorBytesPerSecond().isPresent()
-                            ? w.collectorBytesPerSecond().getAsDouble()
-                            : null,
+                        orNull(w.promotionBytesPerSecond()),
+                        orNull(w.collectorBytesPerSecond()),
                         w.nonHeapBytes(),
+                        orNull(w.layout().youngCapacityBytes()),
+                        orNull(w.layout().oldCapacityBytes()),
+                        orNull(w.layout().startupLiveBytes()),
+                        orNull(w.layout().allocationBytesPerSecond()),
+                        w.layout().steadyGcSecondsPerSecond() > 0
+                            ? w.layout().steadyGcSecondsPerSecond()
+                            : null,
                         w.evidence().sampleCount() > 0 ? w.evidence().sampleCount() : null,
                         w.evidence().confidence(),
                         w.evidence().notes()))
@@ -93,5 +103,13 @@ public final class SnapshotWriter {
       // Records of strings and numbers always serialise; reaching here is a defect of ours.
       throw new IllegalStateException(e);
     }
+  }
+
+  private static Long orNull(OptionalLong value) {
+    return value.isPresent() ? value.getAsLong() : null;
+  }
+
+  private static Double orNull(OptionalDouble value) {
+    return value.isPresent() ? value.getAsDouble() : null;
   }
 }

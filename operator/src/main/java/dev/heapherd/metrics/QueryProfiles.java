@@ -1,5 +1,6 @@
 package dev.heapherd.metrics;
 
+import java.util.EnumMap;
 import java.util.List;
 import java.util.Map;
 import java.util.Optional;
@@ -23,6 +24,28 @@ public final class QueryProfiles {
   static final String OLD_POOLS =
       "Tenured Gen|PS Old Gen|G1 Old Gen|ZHeap|ZGC Old Generation|Shenandoah";
 
+  /** MemoryPoolMXBean names of the young generation's pools (generational ZGC: JDK 21+). */
+  static final String YOUNG_POOLS =
+      "Eden Space|Survivor Space|PS Eden Space|PS Survivor Space|G1 Eden Space|G1 Survivor Space"
+          + "|ZGC Young Generation";
+
+  /** Every heap pool name above, for instrumentations that do not label pools heap or not. */
+  static final String HEAP_POOLS = YOUNG_POOLS + "|" + OLD_POOLS;
+
+  /**
+   * Survivor pools of collectors that keep two survivor spaces and report one: Serial and
+   * Parallel. Adding one more to the pools' maxima gives the heap limit (-Xmx) to within the
+   * spaces' alignment, where the pools' sum alone falls one survivor space short.
+   */
+  static final String TWIN_SURVIVOR_POOLS = "Survivor Space|PS Survivor Space";
+
+  /**
+   * How far back the start-up need is looked for: a day, well inside Prometheus' default
+   * retention of 15 days (its documented default), long enough to cover a pod's start after a
+   * rollout.
+   */
+  static final String STARTUP_LOOKBACK = "1d";
+
   private static final String BY_POD = "by (namespace, pod)";
 
   /** Scrapes per pod in the window, from Prometheus' own up series: the same for every profile. */
@@ -43,7 +66,7 @@ public final class QueryProfiles {
       new QueryProfile(
           "micrometer",
           "GC time: pause durations plus concurrent-phase durations where exported (wall time)",
-          Map.of(
+          templates(
               Signal.LIVE_BYTES,
               List.of(
                   // Updated by Micrometer only after old-generation and concurrent cycles; zero
@@ -60,12 +83,7 @@ public final class QueryProfiles {
                       series(
                           "jvm_memory_used_bytes", "area=\"heap\"", "id=~\"" + OLD_POOLS + "\""))),
               Signal.HEAP_MAX_BYTES,
-              List.of(
-                  "sum "
-                      + BY_POD
-                      + " (max_over_time("
-                      + series("jvm_memory_max_bytes", "area=\"heap\"")
-                      + "[${window}]) > 0)"),
+              List.of(heapLimit("jvm_memory_max_bytes", "area=\"heap\"", "id")),
               Signal.YOUNG_GC_SECONDS_PER_SECOND,
               List.of(
                   perPod("sum", "rate(", series("jvm_gc_pause_seconds_sum", "action=" + MINOR))),
@@ -79,6 +97,26 @@ public final class QueryProfiles {
                           "action!=" + MINOR))),
               Signal.PROMOTION_BYTES_PER_SECOND,
               List.of(perPod("sum", "rate(", series("jvm_gc_memory_promoted_bytes_total"))),
+              Signal.YOUNG_CAPACITY_BYTES,
+              List.of(
+                  perPod(
+                      "sum",
+                      "avg_over_time(",
+                      series(
+                          "jvm_memory_committed_bytes",
+                          "area=\"heap\"",
+                          "id=~\"" + YOUNG_POOLS + "\""))),
+              Signal.OLD_CAPACITY_BYTES,
+              List.of(oldCapacity("jvm_memory_max_bytes", "area=\"heap\"", "id")),
+              Signal.STARTUP_LIVE_BYTES,
+              List.of(
+                  perPodOver(
+                      "max",
+                      "max_over_time(",
+                      series("jvm_gc_live_data_size_bytes"),
+                      STARTUP_LOOKBACK)),
+              Signal.ALLOCATION_BYTES_PER_SECOND,
+              List.of(perPod("sum", "rate(", series("jvm_gc_memory_allocated_bytes_total"))),
               Signal.NON_HEAP_BYTES,
               List.of(
                   // Committed non-heap pools plus direct and mapped buffers, each at its
@@ -102,7 +140,7 @@ public final class QueryProfiles {
           "client-java",
           "GC time: GarbageCollectorMXBean collection times (pauses; concurrent cycles where the"
               + " JVM has a bean for them)",
-          Map.of(
+          templates(
               Signal.LIVE_BYTES,
               List.of(
                   // MemoryPoolMXBean collection usage: zero until that pool is collected, which
@@ -121,6 +159,7 @@ public final class QueryProfiles {
                       series("jvm_memory_pool_used_bytes", "pool=~\"" + OLD_POOLS + "\""))),
               Signal.HEAP_MAX_BYTES,
               List.of(
+                  heapLimit("jvm_memory_pool_max_bytes", "pool=~\"" + HEAP_POOLS + "\"", "pool"),
                   perPod("max", "max_over_time(", series("jvm_memory_max_bytes", "area=\"heap\""))),
               Signal.YOUNG_GC_SECONDS_PER_SECOND,
               List.of(
@@ -142,6 +181,15 @@ public final class QueryProfiles {
                       "rate(",
                       series(
                           "jvm_memory_pool_allocated_bytes_total", "pool=~\"" + OLD_POOLS + "\""))),
+              Signal.YOUNG_CAPACITY_BYTES,
+              List.of(
+                  perPod(
+                      "sum",
+                      "avg_over_time(",
+                      series(
+                          "jvm_memory_pool_committed_bytes", "pool=~\"" + YOUNG_POOLS + "\""))),
+              Signal.OLD_CAPACITY_BYTES,
+              List.of(oldCapacity("jvm_memory_pool_max_bytes", "pool=~\"" + HEAP_POOLS + "\"", "pool")),
               Signal.NON_HEAP_BYTES,
               List.of(
                   // High-water of resident memory beyond the committed heap, per scrape.
@@ -172,7 +220,7 @@ public final class QueryProfiles {
           "otel",
           "GC time: GC notification durations (pauses; concurrent cycles where the JVM reports"
               + " them)",
-          Map.of(
+          templates(
               Signal.LIVE_BYTES,
               List.of(
                   afterGc(
@@ -190,10 +238,21 @@ public final class QueryProfiles {
                           "jvm_memory_used_bytes", "jvm_memory_pool_name=~\"" + OLD_POOLS + "\""))),
               Signal.HEAP_MAX_BYTES,
               List.of(
+                  heapLimit(
+                      "jvm_memory_limit_bytes", "jvm_memory_type=\"heap\"", "jvm_memory_pool_name")),
+              Signal.YOUNG_CAPACITY_BYTES,
+              List.of(
                   perPod(
                       "sum",
-                      "max_over_time(",
-                      series("jvm_memory_limit_bytes", "jvm_memory_type=\"heap\""))),
+                      "avg_over_time(",
+                      series(
+                          "jvm_memory_committed_bytes",
+                          "jvm_memory_type=\"heap\"",
+                          "jvm_memory_pool_name=~\"" + YOUNG_POOLS + "\""))),
+              Signal.OLD_CAPACITY_BYTES,
+              List.of(
+                  oldCapacity(
+                      "jvm_memory_limit_bytes", "jvm_memory_type=\"heap\"", "jvm_memory_pool_name")),
               Signal.YOUNG_GC_SECONDS_PER_SECOND,
               List.of(
                   perPod(
@@ -220,6 +279,16 @@ public final class QueryProfiles {
               List.of(perPod("sum", "resets(", series("jvm_cpu_time_seconds_total")))));
 
   private QueryProfiles() {}
+
+  /** Signal and templates, alternating: more pairs than {@code Map.of} takes. */
+  @SuppressWarnings("unchecked")
+  private static Map<Signal, List<String>> templates(Object... pairs) {
+    Map<Signal, List<String>> out = new EnumMap<>(Signal.class);
+    for (int i = 0; i < pairs.length; i += 2) {
+      out.put((Signal) pairs[i], (List<String>) pairs[i + 1]);
+    }
+    return out;
+  }
 
   /** All built-in profiles. */
   public static List<QueryProfile> all() {
@@ -250,7 +319,43 @@ public final class QueryProfiles {
 
   /** {@code aggregation by (namespace, pod) (call series[${window}]))}: one series per pod. */
   private static String perPod(String aggregation, String call, String series) {
-    return aggregation + " " + BY_POD + " (" + call + series + "[${window}]))";
+    return perPodOver(aggregation, call, series, "${window}");
+  }
+
+  private static String perPodOver(String aggregation, String call, String series, String range) {
+    return aggregation + " " + BY_POD + " (" + call + series + "[" + range + "]))";
+  }
+
+  /**
+   * The heap limit from the heap pools' maxima ({@code poolMatcher} selects heap pools, {@code
+   * poolLabel} names them): their sum, plus one more survivor space where the collector keeps two
+   * and reports one ({@link #TWIN_SURVIVOR_POOLS}). Pools without a maximum report -1 (G1's eden
+   * and survivor) and are left out; the old pool's maximum times 0 keeps pods without a twin.
+   */
+  private static String heapLimit(String metric, String poolMatcher, String poolLabel) {
+    String pools = series(metric, poolMatcher);
+    String twins = series(metric, poolMatcher, poolLabel + "=~\"" + TWIN_SURVIVOR_POOLS + "\"");
+    String old = series(metric, poolMatcher, poolLabel + "=~\"" + OLD_POOLS + "\"");
+    return "sum "
+        + BY_POD
+        + " (max_over_time("
+        + pools
+        + "[${window}]) > 0) + on (namespace, pod) sum "
+        + BY_POD
+        + " ((max_over_time("
+        + twins
+        + "[${window}]) > 0) or 0 * max_over_time("
+        + old
+        + "[${window}]))";
+  }
+
+  /** The old pool's maximum (heap pools selected by {@code poolMatcher}, named by the label). */
+  private static String oldCapacity(String metric, String poolMatcher, String poolLabel) {
+    return perPod(
+            "sum",
+            "max_over_time(",
+            series(metric, poolMatcher, poolLabel + "=~\"" + OLD_POOLS + "\""))
+        + " > 0";
   }
 
   /** An after-GC figure, kept only where it is set and fresh (see {@link #OLD_CYCLE_IN_WINDOW}). */

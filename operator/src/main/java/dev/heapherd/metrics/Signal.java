@@ -9,12 +9,23 @@ public enum Signal {
   LIVE_BYTES("liveBytes"),
   /** The heap limit the pod runs with. */
   HEAP_MAX_BYTES("heapMaxBytes"),
-  /** GC seconds per second of collections whose cost does not depend on heap size (young). */
+  /**
+   * GC seconds per second of young collections (on G1 before JDK 20 mixed ones too): their
+   * frequency falls as the young generation grows with the heap.
+   */
   YOUNG_GC_SECONDS_PER_SECOND("youngGcSecondsPerSecond"),
   /** GC seconds per second of collections whose frequency depends on heap size (old, full). */
   OLD_GC_SECONDS_PER_SECOND("oldGcSecondsPerSecond"),
   /** Bytes promoted into the old generation per second. */
   PROMOTION_BYTES_PER_SECOND("promotionBytesPerSecond", false),
+  /** Young-generation capacity (eden and survivor pools, committed), averaged over the window. */
+  YOUNG_CAPACITY_BYTES("youngCapacityBytes", false),
+  /** Old-generation pool maximum: two thirds of the heap under Serial and Parallel by default. */
+  OLD_CAPACITY_BYTES("oldCapacityBytes", false),
+  /** The most held after an old-generation collection over the start-up lookback. */
+  STARTUP_LIVE_BYTES("startupLiveBytes", false),
+  /** Bytes allocated per second. */
+  ALLOCATION_BYTES_PER_SECOND("allocationBytesPerSecond", false),
   /** High-water of memory beyond the heap: RSS or committed non-heap minus committed heap. */
   NON_HEAP_BYTES("nonHeapBytes"),
   /** One series per pod and collector name, labelled {@code collector}; the value is ignored. */

@@ -7,6 +7,8 @@ import java.util.List;
 import java.util.Locale;
 import java.util.Optional;
 import java.util.OptionalDouble;
+import java.util.OptionalLong;
+import java.util.function.ToDoubleFunction;
 import java.util.Set;
 import java.util.TreeSet;
 
@@ -140,9 +142,9 @@ public final class WorkloadEstimator {
             ? "Low"
             : !liveFallback && old > 0 && samples >= HIGH_CONFIDENCE_SAMPLES ? "High" : "Medium";
     OptionalDouble promotion =
-        pods.stream().allMatch(p -> p.value(Signal.PROMOTION_BYTES_PER_SECOND).isPresent())
-            ? OptionalDouble.of(mean(values(pods, Signal.PROMOTION_BYTES_PER_SECOND)))
-            : OptionalDouble.empty();
+        present(pods, Signal.PROMOTION_BYTES_PER_SECOND)
+            .map(v -> OptionalDouble.of(mean(v)))
+            .orElse(OptionalDouble.empty());
     return new Measured(
         new Snapshot.Workload(
             name,
@@ -157,7 +159,31 @@ public final class WorkloadEstimator {
             promotion,
             OptionalDouble.empty(),
             (long) values(pods, Signal.NON_HEAP_BYTES)[pods.size() - 1],
-            new Snapshot.Evidence(samples, confidence, notes)));
+            new Snapshot.Evidence(samples, confidence, notes),
+            new Snapshot.Layout(
+                whole(present(pods, Signal.YOUNG_CAPACITY_BYTES), WorkloadEstimator::mean),
+                whole(present(pods, Signal.OLD_CAPACITY_BYTES), WorkloadEstimator::median),
+                whole(
+                    present(pods, Signal.STARTUP_LIVE_BYTES),
+                    sorted -> Math.max(live, sorted[sorted.length - 1])),
+                present(pods, Signal.ALLOCATION_BYTES_PER_SECOND)
+                    .map(v -> OptionalDouble.of(mean(v)))
+                    .orElse(OptionalDouble.empty()),
+                0)));
+  }
+
+  /** Sorted values of an optional signal when every pod has one, else empty. */
+  private static Optional<double[]> present(List<PodSignals> pods, Signal signal) {
+    return pods.stream().allMatch(p -> p.value(signal).isPresent())
+        ? Optional.of(values(pods, signal))
+        : Optional.empty();
+  }
+
+  private static OptionalLong whole(
+      Optional<double[]> values, ToDoubleFunction<double[]> summary) {
+    return values
+        .map(v -> OptionalLong.of((long) summary.applyAsDouble(v)))
+        .orElse(OptionalLong.empty());
   }
 
   private static String missingHint(Signal signal) {

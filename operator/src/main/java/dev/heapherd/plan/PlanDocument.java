@@ -47,6 +47,27 @@ public record PlanDocument(
   /** Heaps per pod under the two comparison rules. */
   public record Comparison(long linearRuleHeapBytes, long equalSplitHeapBytes) {}
 
+  /**
+   * The young part of a workload's curve: {@code constant / (share * heap)} GC seconds per second.
+   *
+   * @param constant young GC time rate times young capacity at the heap measured under
+   * @param share young capacity per byte of heap
+   */
+  public record YoungPart(double constant, Share share) {}
+
+  /**
+   * A generation's share of the heap and where it came from.
+   *
+   * @param value fraction of the heap limit
+   * @param source {@code measured} (from the JVM's memory pools) or {@code assumed} (the
+   *     collector's documented default)
+   */
+  public record Share(double value, String source) {
+    static Share of(double value, boolean measured) {
+      return new Share(value, measured ? "measured" : "assumed");
+    }
+  }
+
   /** One workload's line of the plan. */
   public record WorkloadEntry(
       String name,
@@ -61,6 +82,8 @@ public record PlanDocument(
       String gcConstantEstimator,
       long offsetBytes,
       double heapIndependentGcSecondsPerSecond,
+      YoungPart young,
+      Share oldShare,
       double weight,
       String bound,
       long lowHeapBytes,
@@ -112,6 +135,11 @@ public record PlanDocument(
         w.gc().estimator().label(),
         w.gc().offsetBytes(),
         w.gc().heapIndependentFraction(),
+        new YoungPart(
+            w.gc().youngConstantBytes(),
+            Share.of(
+                w.gc().generations().youngShare(), w.gc().generations().youngShareMeasured())),
+        Share.of(w.gc().generations().oldShare(), w.gc().generations().oldShareMeasured()),
         w.weight(),
         p.bound().label(),
         p.bounds().lowBytes(),

@@ -1,5 +1,6 @@
 package dev.heapherd.plan;
 
+import dev.heapherd.engine.Bound;
 import dev.heapherd.input.Quantity;
 import java.util.ArrayList;
 import java.util.List;
@@ -18,7 +19,8 @@ public final class PlanTable {
     "GC s/h NOW",
     "GC s/h NEXT",
     "DECIDED BY",
-    "k FROM"
+    "k FROM",
+    "YOUNG SHARE"
   };
 
   private PlanTable() {}
@@ -48,7 +50,14 @@ public final class PlanTable {
             seconds(w.predictedGcSecondsPerHour().current()),
             seconds(w.predictedGcSecondsPerHour().proposed()),
             w.bound(),
-            w.gcConstantEstimator()
+            w.gcConstantEstimator(),
+            w.young().constant() > 0
+                ? String.format(
+                    Locale.ROOT,
+                    "%.0f%% %s",
+                    100 * w.young().share().value(),
+                    w.young().share().source())
+                : "-"
           });
     }
     appendColumns(out, rows);
@@ -98,6 +107,16 @@ public final class PlanTable {
     if (doc.held().stream().anyMatch(h -> h.memoryBytes() == 0)) {
       out.append("Some held workloads' memory is unknown and not counted above: make sure the")
           .append(" budget leaves room for them.\n");
+    }
+    List<String> kept =
+        doc.workloads().stream()
+            .filter(w -> Bound.KEPT.label().equals(w.bound()))
+            .map(PlanDocument.WorkloadEntry::name)
+            .toList();
+    if (!kept.isEmpty()) {
+      out.append("Kept at today's heap, no GC time was measured to predict a change from: ")
+          .append(String.join(", ", kept))
+          .append(". Measure over a longer window or check that the pods export GC metrics.\n");
     }
     out.append("Binding constraints: ")
         .append(binding.isEmpty() ? "none" : String.join(", ", binding))

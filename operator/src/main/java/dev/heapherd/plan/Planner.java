@@ -3,6 +3,7 @@ package dev.heapherd.plan;
 import dev.heapherd.engine.Allocator;
 import dev.heapherd.engine.GcConstants;
 import dev.heapherd.engine.GcModel;
+import dev.heapherd.engine.GcObservation;
 import dev.heapherd.engine.Objective;
 import dev.heapherd.engine.PoolPlan;
 import dev.heapherd.engine.Workload;
@@ -80,20 +81,13 @@ public final class Planner {
     List<Workload> out = new ArrayList<>();
     for (Snapshot.Workload m : snapshot.workloads()) {
       WorkloadSettings settings = pool.settingsFor(m.name());
-      GcModel gc =
-          GcConstants.estimate(
-              m.gcSecondsPerSecond(),
-              m.youngGcSecondsPerSecond(),
-              m.heapMaxBytes(),
-              m.liveBytes(),
-              m.offsetBytes(),
-              m.promotionBytesPerSecond(),
-              m.collectorBytesPerSecond());
+      GcModel gc = GcConstants.estimate(observation(m));
       out.add(
           new Workload(
               m.name(),
               m.replicas(),
               m.liveBytes(),
+              m.layout().startupLiveBytes().orElse(m.liveBytes()),
               m.heapMaxBytes(),
               m.nonHeapBytes(),
               settings.weight(),
@@ -101,5 +95,21 @@ public final class Planner {
               settings.toRules()));
     }
     return out;
+  }
+
+  /** The engine's view of one workload's measurements. */
+  public static GcObservation observation(Snapshot.Workload m) {
+    return new GcObservation(
+        m.collector(),
+        m.heapMaxBytes(),
+        m.liveBytes(),
+        m.offsetBytes(),
+        m.gcSecondsPerSecond(),
+        m.youngGcSecondsPerSecond(),
+        m.layout().steadyGcSecondsPerSecond(),
+        m.layout().youngCapacityBytes(),
+        m.layout().oldCapacityBytes(),
+        m.promotionBytesPerSecond(),
+        m.collectorBytesPerSecond());
   }
 }

@@ -293,7 +293,8 @@ public final class ProposalBuilder {
         m.promotionBytesPerSecond(),
         m.collectorBytesPerSecond(),
         m.nonHeapBytes(),
-        m.evidence());
+        m.evidence(),
+        m.layout());
   }
 
   private static PoolFile withBudgetLess(PoolFile pool, long bytes) {

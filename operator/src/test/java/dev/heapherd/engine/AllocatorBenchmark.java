@@ -63,11 +63,11 @@ public class AllocatorBenchmark {
           new Workload(
               "w" + i,
               replicas,
-              live,
+              live, live,
               heap,
               nonHeap,
               random.nextInt(1, 4),
-              GcConstants.estimate(
+              PublishedRule.estimate(
                   random.nextDouble(0.001, 0.1),
                   random.nextDouble(0, 0.001),
                   heap,
@@ -89,7 +89,7 @@ public class AllocatorBenchmark {
       Workload w = pool.get(i);
       HeapBounds bounds = HeapBounds.of(w);
       base[i] = (double) w.liveBytes() + w.gc().offsetBytes();
-      pull[i] = w.pull();
+      pull[i] = w.oldPull();
       low[i] = bounds.lowBytes();
       high[i] = bounds.highBytes();
       count[i] = w.replicas();

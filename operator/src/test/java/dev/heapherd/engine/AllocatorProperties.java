@@ -125,7 +125,7 @@ class AllocatorProperties {
     for (Workload w : pool) {
       fixed +=
           w.replicas() * ((double) w.liveBytes() + w.gc().offsetBytes() + w.podOverheadBytes());
-      pull += w.replicas() * w.pull();
+      pull += w.replicas() * w.oldPull();
     }
     long budget = (long) (fixed + factor * 1000 * pull * MIB / Math.sqrt(MIB));
     PoolPlan plan = Allocator.plan(pool, new Objective.Budget(budget));
@@ -139,7 +139,7 @@ class AllocatorProperties {
           plan.workloads().get(i).optimalHeapBytes() - w.liveBytes() - w.gc().offsetBytes();
       double extraDoubled =
           doubled.workloads().get(i).optimalHeapBytes() - w.liveBytes() - w.gc().offsetBytes();
-      assertThat(extra).isCloseTo(c * w.pull(), within(extra * 1e-9 + 1));
+      assertThat(extra).isCloseTo(c * w.oldPull(), within(extra * 1e-9 + 1));
       // Doubling the memory above the fixed part doubles every free workload's extra.
       assertThat(extraDoubled).isCloseTo(2 * extra, within(extra * 1e-9 + 1));
     }

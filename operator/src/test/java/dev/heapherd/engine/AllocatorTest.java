@@ -17,7 +17,7 @@ class AllocatorTest {
   private static Workload workload(
       String name, int replicas, long liveMib, long heapMib, double gcRate, HeapRules rules) {
     GcModel gc =
-        GcConstants.estimate(
+        PublishedRule.estimate(
             gcRate,
             0,
             heapMib * MIB,
@@ -25,7 +25,7 @@ class AllocatorTest {
             0,
             OptionalDouble.empty(),
             OptionalDouble.empty());
-    return new Workload(name, replicas, liveMib * MIB, heapMib * MIB, 0, 1, gc, rules);
+    return new Workload(name, replicas, liveMib * MIB, liveMib * MIB, heapMib * MIB, 0, 1, gc, rules);
   }
 
   @Test
@@ -106,19 +106,19 @@ class AllocatorTest {
   }
 
   @Test
-  void aWorkloadWithoutHeapDependentGcStaysAtItsFloor() {
+  void aWorkloadWithoutHeapDependentGcKeepsTodaysHeap() {
     GcModel flat =
-        GcConstants.estimate(
+        PublishedRule.estimate(
             0.01, 0.01, 2 * GIB, GIB, 0, OptionalDouble.empty(), OptionalDouble.empty());
     Workload young =
         new Workload(
-            "young", 1, GIB, 2 * GIB, 0, 1, flat, new HeapRules(0, Long.MAX_VALUE, 0.2, 10, 0));
+            "young", 1, GIB, GIB, 2 * GIB, 0, 1, flat, new HeapRules(0, Long.MAX_VALUE, 0.2, 10, 0));
     Workload busy = workload("busy", 1, 1000, 1500, 0.05, OPEN);
     PoolPlan plan = Allocator.plan(List.of(young, busy), new Objective.Budget(8 * GIB));
     assertThat(flat.estimator()).isEqualTo(GcConstantEstimator.NO_HEAP_DEPENDENT_GC);
-    assertThat(plan.workloads().get(0).heapBytes())
-        .isEqualTo(plan.workloads().get(0).bounds().lowBytes());
-    assertThat(plan.workloads().get(0).bound()).isEqualTo(Bound.FLOOR);
+    // Nothing predicts what a smaller heap would cost, so it is neither shrunk nor grown.
+    assertThat(plan.workloads().get(0).heapBytes()).isEqualTo(2 * GIB);
+    assertThat(plan.workloads().get(0).bound()).isEqualTo(Bound.KEPT);
   }
 
   @Test

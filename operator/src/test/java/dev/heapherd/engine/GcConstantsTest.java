@@ -15,7 +15,7 @@ class GcConstantsTest {
     // 0.05 s/s of GC, 0.03 of it young collections; heap 1536 MiB, live 1024, offset 128:
     // k = (0.05 - 0.03) x (1536 - 1024 - 128) MiB.
     GcModel gc =
-        GcConstants.estimate(
+        PublishedRule.estimate(
             0.05,
             0.03,
             1536 * MIB,
@@ -26,16 +26,16 @@ class GcConstantsTest {
     assertThat(gc.constantBytes()).isCloseTo(0.02 * 384 * MIB, within(1e-6));
     assertThat(gc.estimator()).isEqualTo(GcConstantEstimator.CURRENT_HEADROOM);
     // The curve passes through the measurement it was calibrated from.
-    assertThat(gc.gcFraction(512.0 * MIB)).isCloseTo(0.05, within(1e-12));
+    assertThat(gc.gcFraction(1536.0 * MIB, 1024.0 * MIB)).isCloseTo(0.05, within(1e-12));
   }
 
   @Test
   void youngDominatedWorkloadGetsASmallConstant() {
     GcModel total =
-        GcConstants.estimate(
+        PublishedRule.estimate(
             0.10, 0, 4096 * MIB, 1024 * MIB, 0, OptionalDouble.empty(), OptionalDouble.empty());
     GcModel split =
-        GcConstants.estimate(
+        PublishedRule.estimate(
             0.10, 0.095, 4096 * MIB, 1024 * MIB, 0, OptionalDouble.empty(), OptionalDouble.empty());
     assertThat(split.constantBytes()).isCloseTo(total.constantBytes() / 20, within(1e-3));
   }
@@ -44,7 +44,7 @@ class GcConstantsTest {
   void fallsBackToThePromotionModelWhenNoHeapDependentGcWasSeen() {
     // The published model's terms: k = g * L / s.
     GcModel gc =
-        GcConstants.estimate(
+        PublishedRule.estimate(
             0.01,
             0.01,
             2048 * MIB,
@@ -60,7 +60,7 @@ class GcConstantsTest {
   void refusesACurrentHeapWithNoHeadroomOverLivePlusOffset() {
     assertThatThrownBy(
             () ->
-                GcConstants.estimate(
+                PublishedRule.estimate(
                     0.01,
                     0,
                     1024 * MIB,

@@ -298,10 +298,10 @@ class GridSearchTest {
       double gcFraction,
       HeapRules rules) {
     GcModel gc =
-        new GcModel(
+        GcModel.oldOnly(
             gcFraction * CALIBRATION_HEADROOM_BYTES, 0, 0, GcConstantEstimator.CURRENT_HEADROOM);
     return new Workload(
-        name, replicas, liveMib * MIB, currentMib * MIB, FIXTURE_NON_HEAP_BYTES, 1, gc, rules);
+        name, replicas, liveMib * MIB, liveMib * MIB, currentMib * MIB, FIXTURE_NON_HEAP_BYTES, 1, gc, rules);
   }
 
   private static HeapRules rules(long floorBytes, long ceilingBytes, double stepFraction) {
@@ -323,7 +323,7 @@ class GridSearchTest {
     long offset =
         oneIn(random) ? 0 : (long) (random.nextDouble() * MAX_OFFSET_SHARE * (current - live));
     double k = logUniform(random, MIN_GC_FRACTION, MAX_GC_FRACTION) * (current - live - offset);
-    GcModel gc = new GcModel(k, offset, 0, GcConstantEstimator.CURRENT_HEADROOM);
+    GcModel gc = GcModel.oldOnly(k, offset, 0, GcConstantEstimator.CURRENT_HEADROOM);
     long floor =
         oneIn(random)
             ? (long) (live * (1 + random.nextDouble(MIN_FLOOR_HEADROOM, MAX_FLOOR_HEADROOM)))
@@ -344,7 +344,7 @@ class GridSearchTest {
     return new Workload(
         name,
         random.nextInt(1, MAX_REPLICAS + 1),
-        live,
+        live, live,
         current,
         (long) random.nextDouble(MIN_NON_HEAP_BYTES, MAX_NON_HEAP_BYTES),
         logUniform(random, MIN_WEIGHT, MAX_WEIGHT),

@@ -32,7 +32,7 @@ final class Pools {
               long liveBytes = live * MIB;
               long heap = liveBytes + offset * MIB + (long) Math.max(2 * MIB, liveBytes * factor);
               GcModel model =
-                  GcConstants.estimate(
+                  PublishedRule.estimate(
                       gc,
                       0,
                       heap,
@@ -40,7 +40,7 @@ final class Pools {
                       offset * MIB,
                       OptionalDouble.empty(),
                       OptionalDouble.empty());
-              return new Workload("w", n, liveBytes, heap, nonHeap * MIB, w, model, r);
+              return new Workload("w", n, liveBytes, liveBytes, heap, nonHeap * MIB, w, model, r);
             });
   }
 
@@ -74,7 +74,7 @@ final class Pools {
               return new Workload(
                   "w" + i,
                   w.replicas(),
-                  w.liveBytes(),
+                  w.liveBytes(), w.liveBytes(),
                   w.currentHeapBytes(),
                   w.nonHeapBytes(),
                   w.weight(),
@@ -89,7 +89,7 @@ final class Pools {
     double sum = 0;
     for (int i = 0; i < heapBytes.length; i++) {
       Workload w = workloads.get(i);
-      sum += w.replicas() * w.weight() * w.gc().heapDependentFraction(heapBytes[i] - w.liveBytes());
+      sum += w.replicas() * w.weight() * w.gc().heapDependentFraction(heapBytes[i], w.liveBytes());
     }
     return sum;
   }

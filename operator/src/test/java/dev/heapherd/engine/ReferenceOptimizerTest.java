@@ -332,7 +332,7 @@ class ReferenceOptimizerTest {
             : (long) (random.nextDouble() * MAX_OFFSET_SHARE * (current - live));
     double k = logUniform(random, MIN_GC_FRACTION, MAX_GC_FRACTION) * (current - live - offset);
     GcModel gc =
-        new GcModel(
+        GcModel.oldOnly(
             k,
             offset,
             random.nextDouble() * MAX_HEAP_INDEPENDENT_FRACTION,
@@ -358,7 +358,7 @@ class ReferenceOptimizerTest {
             (long) (random.nextDouble() * MAX_MARGIN_BYTES));
     long nonHeap = (long) random.nextDouble(MIN_NON_HEAP_BYTES, MAX_NON_HEAP_BYTES);
     double weight = logUniform(random, MIN_WEIGHT, MAX_WEIGHT);
-    return new Workload(name, replicas, live, current, nonHeap, weight, gc, rules);
+    return new Workload(name, replicas, live, live, current, nonHeap, weight, gc, rules);
   }
 
   /** Between the minimum budget and well above it; sometimes past what every ceiling can use. */

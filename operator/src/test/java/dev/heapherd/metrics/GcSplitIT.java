@@ -3,7 +3,7 @@ package dev.heapherd.metrics;
 import static org.assertj.core.api.Assertions.assertThat;
 import static org.awaitility.Awaitility.await;
 
-import dev.heapherd.engine.GcConstants;
+import dev.heapherd.engine.PublishedRule;
 import dev.heapherd.engine.GcModel;
 import dev.heapherd.harness.PrometheusServer;
 import dev.heapherd.input.Snapshot;
@@ -83,7 +83,7 @@ class GcSplitIT {
 
   private static double k(Snapshot.Workload w, double heapIndependent) {
     GcModel model =
-        GcConstants.estimate(
+        PublishedRule.estimate(
             w.gcSecondsPerSecond(),
             heapIndependent,
             w.heapMaxBytes(),

@@ -58,6 +58,7 @@ final class FakeMetrics implements MetricsSource {
         OptionalDouble.empty(),
         OptionalDouble.empty(),
         200L << 20,
-        new Snapshot.Evidence(120, "High", List.of()));
+        new Snapshot.Evidence(120, "High", List.of()),
+        Snapshot.Layout.UNKNOWN);
   }
 }
