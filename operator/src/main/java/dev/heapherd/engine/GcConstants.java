@@ -8,8 +8,8 @@ public final class GcConstants {
   /**
    * Calibrates the curve at the observed heap: the young constant is the young GC time rate times
    * today's young capacity; the old constant is the rest of the heap-dependent GC time rate times
-   * today's old headroom. When no old-generation time was measured the promotion model gives
-   * {@code k} if its inputs exist, else k = 0.
+   * today's old headroom. When no old-generation time was measured the promotion model gives {@code
+   * k} if its inputs exist, else k = 0.
    */
   public static GcModel estimate(GcObservation o) {
     Generations generations = o.generations();

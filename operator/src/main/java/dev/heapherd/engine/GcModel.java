@@ -6,9 +6,9 @@ package dev.heapherd.engine;
  * <pre>cost(H) = Y + a / (youngShare * H) + k / (oldShare * H - L - E0)</pre>
  *
  * The young part: a young collection runs each time the young generation fills, so its frequency
- * falls as the young generation, a share of the heap, grows. The old part is the square-root
- * rule's term on the old generation's headroom over live bytes {@code L}. With {@code a = 0} and
- * both shares 1 it is the published rule {@code Y + k/(E - E0)} with {@code E = H - L}.
+ * falls as the young generation, a share of the heap, grows. The old part is the square-root rule's
+ * term on the old generation's headroom over live bytes {@code L}. With {@code a = 0} and both
+ * shares 1 it is the published rule {@code Y + k/(E - E0)} with {@code E = H - L}.
  *
  * @param constantBytes k, the old generation's constant (fraction of time x bytes)
  * @param offsetBytes E0 >= 0, the old headroom below which the collector thrashes
@@ -42,10 +42,17 @@ public record GcModel(
       double heapIndependentFraction,
       GcConstantEstimator estimator) {
     return new GcModel(
-        constantBytes, offsetBytes, heapIndependentFraction, 0, Generations.SINGLE_SPACE, estimator);
+        constantBytes,
+        offsetBytes,
+        heapIndependentFraction,
+        0,
+        Generations.SINGLE_SPACE,
+        estimator);
   }
 
-  /** GC seconds per second of one pod with {@code liveBytes} live under a {@code heapBytes} limit. */
+  /**
+   * GC seconds per second of one pod with {@code liveBytes} live under a {@code heapBytes} limit.
+   */
   public double gcFraction(double heapBytes, double liveBytes) {
     double oldHeadroom = oldHeadroomBytes(heapBytes, liveBytes);
     if (oldHeadroom <= 0 || heapBytes <= 0) {

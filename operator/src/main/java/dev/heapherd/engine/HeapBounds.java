@@ -18,8 +18,9 @@ public record HeapBounds(long lowBytes, Bound lowBound, long highBytes, Bound hi
 
   /**
    * Resolves a workload's rules against its live bytes and current heap. The floors apply to the
-   * old generation, which holds live objects: under Serial and Parallel it is only part of the heap.
-   * A workload whose curve is flat keeps today's heap: nothing predicts what a change would do.
+   * old generation, which holds live objects: under Serial and Parallel it is only part of the
+   * heap. A workload whose curve is flat keeps today's heap: nothing predicts what a change would
+   * do.
    */
   public static HeapBounds of(Workload w) {
     HeapRules rules = w.rules();

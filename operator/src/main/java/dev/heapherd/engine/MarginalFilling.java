@@ -4,19 +4,19 @@ package dev.heapherd.engine;
  * Exact allocator for a sum of per-workload convex decreasing cost curves under one memory total.
  *
  * <p>Each term's weighted marginal GC cost per heap byte is {@code (rY/H)^2 + (rO/(H - D))^2}
- * (young part and old part of {@link GcModel}, scaled by weight). The Karush-Kuhn-Tucker
- * conditions of {@code min sum n_i w_i cost_i(H_i)} subject to {@code sum n_i H_i = target} and
- * bounds put every unbounded term at one marginal cost {@code 1/c^2}; {@code c} is the pool's
- * level. A term with one part solves in closed form ({@code H = c*rY} or {@code H = D + c*rO}),
- * the published square-root rule, and a pool of such terms is solved exactly by {@link
- * WaterFilling}. A term with both parts is solved per level by Newton's method, which converges
- * monotonically on this convex curve, and the level by bisection to {@link #LEVEL_TOLERANCE}.
+ * (young part and old part of {@link GcModel}, scaled by weight). The Karush-Kuhn-Tucker conditions
+ * of {@code min sum n_i w_i cost_i(H_i)} subject to {@code sum n_i H_i = target} and bounds put
+ * every unbounded term at one marginal cost {@code 1/c^2}; {@code c} is the pool's level. A term
+ * with one part solves in closed form ({@code H = c*rY} or {@code H = D + c*rO}), the published
+ * square-root rule, and a pool of such terms is solved exactly by {@link WaterFilling}. A term with
+ * both parts is solved per level by Newton's method, which converges monotonically on this convex
+ * curve, and the level by bisection to {@link #LEVEL_TOLERANCE}.
  */
 final class MarginalFilling {
 
   /**
-   * Relative width of the bracket the level is narrowed to: heaps follow to about the same
-   * relative error, a billionth of a byte on a GiB heap, far below the MiB heaps are written in.
+   * Relative width of the bracket the level is narrowed to: heaps follow to about the same relative
+   * error, a billionth of a byte on a GiB heap, far below the MiB heaps are written in.
    */
   static final double LEVEL_TOLERANCE = 1e-12;
 
@@ -130,9 +130,9 @@ final class MarginalFilling {
   }
 
   /**
-   * Solves {@code (rY/H)^2 + (rO/(H-D))^2 = 1/c^2}. The root lies between the heaps where each
-   * part alone meets the level and {@code D + c*(rY + rO)}; Newton's method from the left end
-   * stays left of the root on a convex decreasing function, so it never leaves the bracket.
+   * Solves {@code (rY/H)^2 + (rO/(H-D))^2 = 1/c^2}. The root lies between the heaps where each part
+   * alone meets the level and {@code D + c*(rY + rO)}; Newton's method from the left end stays left
+   * of the root on a convex decreasing function, so it never leaves the bracket.
    */
   private double unboundedHeap(int i, double c) {
     double ry = youngPull[i];

@@ -62,8 +62,8 @@ public record Snapshot(
    * @param heapMaxBytes the heap limit the pods run with
    * @param liveBytes live bytes after a major or concurrent cycle
    * @param gcSecondsPerSecond total GC time rate
-   * @param youngGcSecondsPerSecond the part of it spent in young collections (on G1 before JDK
-   *     20 mixed collections too), which falls as the young generation grows with the heap
+   * @param youngGcSecondsPerSecond the part of it spent in young collections (on G1 before JDK 20
+   *     mixed collections too), which falls as the young generation grows with the heap
    * @param offsetBytes headroom below which the collector thrashes (E0)
    * @param promotionBytesPerSecond bytes entering the old generation per second, if measured
    * @param collectorBytesPerSecond live bytes traced per second of GC time, if measured
@@ -90,7 +90,8 @@ public record Snapshot(
   /**
    * What a workload's generations hold and need, where measured or declared.
    *
-   * @param youngCapacityBytes young-generation capacity (eden plus survivors) under the current heap
+   * @param youngCapacityBytes young-generation capacity (eden plus survivors) under the current
+   *     heap
    * @param oldCapacityBytes old-generation maximum under the current heap
    * @param startupLiveBytes the most held after a collection since the pods started
    * @param allocationBytesPerSecond bytes allocated per second

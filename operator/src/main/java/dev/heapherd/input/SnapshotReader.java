@@ -133,7 +133,8 @@ public final class SnapshotReader {
     }
     Long startup = f.positiveBytesOrNull("startupLiveBytes");
     if (startup != null && startup < live) {
-      throw f.required("startupLiveBytes").error("is below liveBytes: it is the most held since start");
+      throw f.required("startupLiveBytes")
+          .error("is below liveBytes: it is the most held since start");
     }
     var collectorSpeed = f.optionalNonNegativeNumber("collectorBytesPerSecond");
     if (collectorSpeed.isPresent()
@@ -163,8 +164,7 @@ public final class SnapshotReader {
   }
 
   /** A generation's capacity: positive and at most the heap. */
-  private static OptionalLong capacity(Field f, String name, long heapBytes)
-      throws InputException {
+  private static OptionalLong capacity(Field f, String name, long heapBytes) throws InputException {
     Long bytes = f.positiveBytesOrNull(name);
     if (bytes == null) {
       return OptionalLong.empty();

@@ -33,16 +33,15 @@ public final class QueryProfiles {
   static final String HEAP_POOLS = YOUNG_POOLS + "|" + OLD_POOLS;
 
   /**
-   * Survivor pools of collectors that keep two survivor spaces and report one: Serial and
-   * Parallel. Adding one more to the pools' maxima gives the heap limit (-Xmx) to within the
-   * spaces' alignment, where the pools' sum alone falls one survivor space short.
+   * Survivor pools of collectors that keep two survivor spaces and report one: Serial and Parallel.
+   * Adding one more to the pools' maxima gives the heap limit (-Xmx) to within the spaces'
+   * alignment, where the pools' sum alone falls one survivor space short.
    */
   static final String TWIN_SURVIVOR_POOLS = "Survivor Space|PS Survivor Space";
 
   /**
-   * How far back the start-up need is looked for: a day, well inside Prometheus' default
-   * retention of 15 days (its documented default), long enough to cover a pod's start after a
-   * rollout.
+   * How far back the start-up need is looked for: a day, well inside Prometheus' default retention
+   * of 15 days (its documented default), long enough to cover a pod's start after a rollout.
    */
   static final String STARTUP_LOOKBACK = "1d";
 
@@ -186,10 +185,10 @@ public final class QueryProfiles {
                   perPod(
                       "sum",
                       "avg_over_time(",
-                      series(
-                          "jvm_memory_pool_committed_bytes", "pool=~\"" + YOUNG_POOLS + "\""))),
+                      series("jvm_memory_pool_committed_bytes", "pool=~\"" + YOUNG_POOLS + "\""))),
               Signal.OLD_CAPACITY_BYTES,
-              List.of(oldCapacity("jvm_memory_pool_max_bytes", "pool=~\"" + HEAP_POOLS + "\"", "pool")),
+              List.of(
+                  oldCapacity("jvm_memory_pool_max_bytes", "pool=~\"" + HEAP_POOLS + "\"", "pool")),
               Signal.NON_HEAP_BYTES,
               List.of(
                   // High-water of resident memory beyond the committed heap, per scrape.
@@ -239,7 +238,9 @@ public final class QueryProfiles {
               Signal.HEAP_MAX_BYTES,
               List.of(
                   heapLimit(
-                      "jvm_memory_limit_bytes", "jvm_memory_type=\"heap\"", "jvm_memory_pool_name")),
+                      "jvm_memory_limit_bytes",
+                      "jvm_memory_type=\"heap\"",
+                      "jvm_memory_pool_name")),
               Signal.YOUNG_CAPACITY_BYTES,
               List.of(
                   perPod(
@@ -252,7 +253,9 @@ public final class QueryProfiles {
               Signal.OLD_CAPACITY_BYTES,
               List.of(
                   oldCapacity(
-                      "jvm_memory_limit_bytes", "jvm_memory_type=\"heap\"", "jvm_memory_pool_name")),
+                      "jvm_memory_limit_bytes",
+                      "jvm_memory_type=\"heap\"",
+                      "jvm_memory_pool_name")),
               Signal.YOUNG_GC_SECONDS_PER_SECOND,
               List.of(
                   perPod(

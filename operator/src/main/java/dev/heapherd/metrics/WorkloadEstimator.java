@@ -8,9 +8,9 @@ import java.util.Locale;
 import java.util.Optional;
 import java.util.OptionalDouble;
 import java.util.OptionalLong;
-import java.util.function.ToDoubleFunction;
 import java.util.Set;
 import java.util.TreeSet;
+import java.util.function.ToDoubleFunction;
 
 /**
  * Turns the pods of one workload into the snapshot's per-pod numbers, or holds the workload with a
@@ -179,8 +179,7 @@ public final class WorkloadEstimator {
         : Optional.empty();
   }
 
-  private static OptionalLong whole(
-      Optional<double[]> values, ToDoubleFunction<double[]> summary) {
+  private static OptionalLong whole(Optional<double[]> values, ToDoubleFunction<double[]> summary) {
     return values
         .map(v -> OptionalLong.of((long) summary.applyAsDouble(v)))
         .orElse(OptionalLong.empty());

@@ -137,8 +137,7 @@ public record PlanDocument(
         w.gc().heapIndependentFraction(),
         new YoungPart(
             w.gc().youngConstantBytes(),
-            Share.of(
-                w.gc().generations().youngShare(), w.gc().generations().youngShareMeasured())),
+            Share.of(w.gc().generations().youngShare(), w.gc().generations().youngShareMeasured())),
         Share.of(w.gc().generations().oldShare(), w.gc().generations().oldShareMeasured()),
         w.weight(),
         p.bound().label(),

@@ -63,7 +63,8 @@ public class AllocatorBenchmark {
           new Workload(
               "w" + i,
               replicas,
-              live, live,
+              live,
+              live,
               heap,
               nonHeap,
               random.nextInt(1, 4),

@@ -25,7 +25,8 @@ class AllocatorTest {
             0,
             OptionalDouble.empty(),
             OptionalDouble.empty());
-    return new Workload(name, replicas, liveMib * MIB, liveMib * MIB, heapMib * MIB, 0, 1, gc, rules);
+    return new Workload(
+        name, replicas, liveMib * MIB, liveMib * MIB, heapMib * MIB, 0, 1, gc, rules);
   }
 
   @Test
@@ -112,7 +113,15 @@ class AllocatorTest {
             0.01, 0.01, 2 * GIB, GIB, 0, OptionalDouble.empty(), OptionalDouble.empty());
     Workload young =
         new Workload(
-            "young", 1, GIB, GIB, 2 * GIB, 0, 1, flat, new HeapRules(0, Long.MAX_VALUE, 0.2, 10, 0));
+            "young",
+            1,
+            GIB,
+            GIB,
+            2 * GIB,
+            0,
+            1,
+            flat,
+            new HeapRules(0, Long.MAX_VALUE, 0.2, 10, 0));
     Workload busy = workload("busy", 1, 1000, 1500, 0.05, OPEN);
     PoolPlan plan = Allocator.plan(List.of(young, busy), new Objective.Budget(8 * GIB));
     assertThat(flat.estimator()).isEqualTo(GcConstantEstimator.NO_HEAP_DEPENDENT_GC);

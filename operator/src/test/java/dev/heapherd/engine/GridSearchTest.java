@@ -301,7 +301,15 @@ class GridSearchTest {
         GcModel.oldOnly(
             gcFraction * CALIBRATION_HEADROOM_BYTES, 0, 0, GcConstantEstimator.CURRENT_HEADROOM);
     return new Workload(
-        name, replicas, liveMib * MIB, liveMib * MIB, currentMib * MIB, FIXTURE_NON_HEAP_BYTES, 1, gc, rules);
+        name,
+        replicas,
+        liveMib * MIB,
+        liveMib * MIB,
+        currentMib * MIB,
+        FIXTURE_NON_HEAP_BYTES,
+        1,
+        gc,
+        rules);
   }
 
   private static HeapRules rules(long floorBytes, long ceilingBytes, double stepFraction) {
@@ -344,7 +352,8 @@ class GridSearchTest {
     return new Workload(
         name,
         random.nextInt(1, MAX_REPLICAS + 1),
-        live, live,
+        live,
+        live,
         current,
         (long) random.nextDouble(MIN_NON_HEAP_BYTES, MAX_NON_HEAP_BYTES),
         logUniform(random, MIN_WEIGHT, MAX_WEIGHT),

@@ -74,7 +74,8 @@ final class Pools {
               return new Workload(
                   "w" + i,
                   w.replicas(),
-                  w.liveBytes(), w.liveBytes(),
+                  w.liveBytes(),
+                  w.liveBytes(),
                   w.currentHeapBytes(),
                   w.nonHeapBytes(),
                   w.weight(),

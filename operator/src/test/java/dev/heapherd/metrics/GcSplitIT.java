@@ -3,8 +3,8 @@ package dev.heapherd.metrics;
 import static org.assertj.core.api.Assertions.assertThat;
 import static org.awaitility.Awaitility.await;
 
-import dev.heapherd.engine.PublishedRule;
 import dev.heapherd.engine.GcModel;
+import dev.heapherd.engine.PublishedRule;
 import dev.heapherd.harness.PrometheusServer;
 import dev.heapherd.input.Snapshot;
 import java.nio.file.Files;
