@@ -98,6 +98,17 @@ class GridSearchTest {
     }
   }
 
+  /** Curves with a young part, solved numerically by the allocator, against the same grid. */
+  @Test
+  void generationalTwoWorkloadPoolsMatchExhaustiveGrid() {
+    SplittableRandom random = new SplittableRandom(SEED + 2);
+    for (int instance = 0; instance < TWO_WORKLOAD_POOLS; instance++) {
+      List<Workload> pool =
+          randomPool(random, 2).stream().map(w -> withYoungPart(random, w)).toList();
+      assertMatchesGrid(pool, randomBudget(random, pool), "generational pool " + instance);
+    }
+  }
+
   @Test
   void threeWorkloadPoolsMatchGridWithRemainderToThird() {
     // A stream of its own, so adding two-workload pools leaves these unchanged.
@@ -217,7 +228,8 @@ class GridSearchTest {
           .as(label)
           .isBetween((double) bounds.lowBytes(), (double) bounds.highBytes());
       spent += w.replicas() * (optimum[i] + w.podOverheadBytes());
-      double usable = optimum[i] - w.liveBytes() - w.gc().offsetBytes();
+      // The old headroom is below the heap, so it bounds the young term's growth as well.
+      double usable = w.gc().oldHeadroomBytes(optimum[i], w.liveBytes());
       double down = optimum[i] - Math.floor(optimum[i] / GRID_STEP) * GRID_STEP;
       gridSlack = Math.max(gridSlack, down / (usable - down));
     }
@@ -314,6 +326,42 @@ class GridSearchTest {
 
   private static HeapRules rules(long floorBytes, long ceilingBytes, double stepFraction) {
     return new HeapRules(floorBytes, ceilingBytes, 0, stepFraction, 0);
+  }
+
+  /**
+   * {@code w} with a young part calibrated from a GC fraction at its current heap and a G1-like
+   * young share (between G1NewSizePercent 5 and G1MaxNewSizePercent 60, HotSpot defaults), or
+   * Parallel-like shares (NewRatio=2, HotSpot's default) where the old generation still holds its
+   * live bytes and offset.
+   */
+  private static Workload withYoungPart(SplittableRandom random, Workload w) {
+    GcModel old = w.gc();
+    double current = w.currentHeapBytes();
+    boolean parallelFits = 2.0 / 3 * current > w.liveBytes() + old.offsetBytes() + MIB;
+    Generations generations =
+        random.nextBoolean() && parallelFits
+            ? new Generations(1.0 / 3, true, 2.0 / 3, true)
+            : new Generations(random.nextDouble(0.05, 0.6), true, 1, true);
+    double young =
+        logUniform(random, MIN_GC_FRACTION, MAX_GC_FRACTION) * generations.youngShare() * current;
+    GcModel gc =
+        new GcModel(
+            old.constantBytes(),
+            old.offsetBytes(),
+            0,
+            young,
+            generations,
+            GcConstantEstimator.CURRENT_HEADROOM);
+    return new Workload(
+        w.name(),
+        w.replicas(),
+        w.liveBytes(),
+        w.startupLiveBytes(),
+        w.currentHeapBytes(),
+        w.nonHeapBytes(),
+        w.weight(),
+        gc,
+        w.rules());
   }
 
   private static List<Workload> randomPool(SplittableRandom random, int size) {

@@ -133,6 +133,19 @@ class ReferenceOptimizerTest {
 
   @Test
   void exactSolverMatchesGeneralPurposeOptimiser() {
+    compareOnRandomPools(false);
+  }
+
+  /**
+   * Curves with a young part and an old generation that is only part of the heap, as under G1 and
+   * Parallel: the allocator then solves the marginal equation numerically, and must still agree.
+   */
+  @Test
+  void marginalSolverMatchesGeneralPurposeOptimiserOnGenerationalCurves() {
+    compareOnRandomPools(true);
+  }
+
+  private static void compareOnRandomPools(boolean generational) {
     SplittableRandom random = new SplittableRandom(SEED);
     int highBinds = 0;
     int lowBindsWithSpare = 0;
@@ -140,7 +153,7 @@ class ReferenceOptimizerTest {
     int everyHeapAtHigh = 0;
     int minimumBudgets = 0;
     for (int instance = 0; instance < INSTANCES; instance++) {
-      List<Workload> pool = randomPool(random);
+      List<Workload> pool = randomPool(random, generational);
       long budget = randomBudget(random, pool);
       PoolPlan plan = Allocator.plan(pool, new Objective.Budget(budget));
       assertThat(plan.feasible()).as("instance %d", instance).isTrue();
@@ -312,30 +325,44 @@ class ReferenceOptimizerTest {
     assertThat(used).as("instance %d", instance).isLessThanOrEqualTo(budget * (1 + FLOAT_SLACK));
   }
 
-  private static List<Workload> randomPool(SplittableRandom random) {
+  private static List<Workload> randomPool(SplittableRandom random, boolean generational) {
     int size = random.nextInt(MIN_WORKLOADS, MAX_WORKLOADS + 1);
     List<Workload> pool = new ArrayList<>(size);
     for (int i = 0; i < size; i++) {
-      pool.add(randomWorkload(random, "w" + i));
+      pool.add(randomWorkload(random, "w" + i, generational));
     }
     return pool;
   }
 
-  private static Workload randomWorkload(SplittableRandom random, String name) {
+  private static Workload randomWorkload(
+      SplittableRandom random, String name, boolean generational) {
     int replicas = random.nextInt(1, MAX_REPLICAS + 1);
     long live = (long) logUniform(random, MIN_LIVE_BYTES, MAX_LIVE_BYTES);
+    Generations generations = generational ? randomGenerations(random) : Generations.SINGLE_SPACE;
+    double oldShare = generations.oldShare();
     long current =
-        (long) (live * (1 + random.nextDouble(MIN_CURRENT_HEADROOM, MAX_CURRENT_HEADROOM)));
+        (long)
+            (live * (1 + random.nextDouble(MIN_CURRENT_HEADROOM, MAX_CURRENT_HEADROOM)) / oldShare);
+    double oldHeadroom = oldShare * current - live;
     long offset =
         oneIn(random, RULE_ODDS)
             ? 0
-            : (long) (random.nextDouble() * MAX_OFFSET_SHARE * (current - live));
-    double k = logUniform(random, MIN_GC_FRACTION, MAX_GC_FRACTION) * (current - live - offset);
+            : (long) (random.nextDouble() * MAX_OFFSET_SHARE * oldHeadroom);
+    double k = logUniform(random, MIN_GC_FRACTION, MAX_GC_FRACTION) * (oldHeadroom - offset);
+    // The young part is off for some workloads, so pools mix one-part and two-part curves.
+    double young =
+        generational && !oneIn(random, RULE_ODDS)
+            ? logUniform(random, MIN_GC_FRACTION, MAX_GC_FRACTION)
+                * generations.youngShare()
+                * current
+            : 0;
     GcModel gc =
-        GcModel.oldOnly(
+        new GcModel(
             k,
             offset,
             random.nextDouble() * MAX_HEAP_INDEPENDENT_FRACTION,
+            young,
+            generations,
             GcConstantEstimator.CURRENT_HEADROOM);
     long floor =
         oneIn(random, RULE_ODDS)
@@ -359,6 +386,18 @@ class ReferenceOptimizerTest {
     long nonHeap = (long) random.nextDouble(MIN_NON_HEAP_BYTES, MAX_NON_HEAP_BYTES);
     double weight = logUniform(random, MIN_WEIGHT, MAX_WEIGHT);
     return new Workload(name, replicas, live, live, current, nonHeap, weight, gc, rules);
+  }
+
+  /**
+   * Half G1-like (young share between G1NewSizePercent 5 and G1MaxNewSizePercent 60, HotSpot
+   * defaults; old may use the whole heap), half Parallel-like (NewRatio=2, HotSpot's default: young
+   * one third, old two thirds).
+   */
+  private static Generations randomGenerations(SplittableRandom random) {
+    if (random.nextBoolean()) {
+      return new Generations(random.nextDouble(0.05, 0.6), true, 1, true);
+    }
+    return new Generations(1.0 / 3, true, 2.0 / 3, true);
   }
 
   /** Between the minimum budget and well above it; sometimes past what every ceiling can use. */
