@@ -23,6 +23,49 @@ public class HeapPoolStatus {
   @JsonPropertyDescription("The latest actions on workloads, newest first.")
   public List<Action> history = new ArrayList<>();
 
+  @JsonPropertyDescription(
+      "Per workload: GC time measured under each heap it ran with (the points its curve is fitted"
+          + " to) and how the last prediction compared with what was measured.")
+  public List<WorkloadCurve> curves = new ArrayList<>();
+
+  @JsonPropertyDescription(
+      "The latest check of predictions against measurement, summed over the workloads checked.")
+  public PredictionCheck lastPredictionCheck;
+
+  /** What is known of one workload's GC cost curve. */
+  @JsonInclude(JsonInclude.Include.NON_NULL)
+  public static class WorkloadCurve {
+    public String name;
+
+    @JsonPropertyDescription("One point per heap, newest last; a few, so the status stays small.")
+    public List<MeasuredPoint> points = new ArrayList<>();
+
+    @JsonPropertyDescription("GC time predicted for the heap proposed, checked once it runs.")
+    public PredictionCheck expected;
+
+    @JsonPropertyDescription("The latest prediction of this workload checked against measurement.")
+    public PredictionCheck lastCheck;
+  }
+
+  /** GC times measured under one heap. */
+  @JsonInclude(JsonInclude.Include.NON_NULL)
+  public static class MeasuredPoint {
+    public Long heapBytes;
+    public Long liveBytes;
+    public Double youngGcSecondsPerSecond;
+    public Double oldGcSecondsPerSecond;
+    public String measuredAt;
+  }
+
+  /** A prediction of GC time, and what was measured once it could be. */
+  @JsonInclude(JsonInclude.Include.NON_NULL)
+  public static class PredictionCheck {
+    public Long heapBytes;
+    public Double predictedGcSecondsPerHour;
+    public Double observedGcSecondsPerHour;
+    public String time;
+  }
+
   /** A proposal with its content hash. */
   @JsonInclude(JsonInclude.Include.NON_NULL)
   public static class Proposal {

@@ -1,5 +1,6 @@
 package dev.heapherd.input;
 
+import dev.heapherd.engine.CurvePoint;
 import java.time.Instant;
 import java.util.List;
 import java.util.OptionalDouble;
@@ -85,7 +86,36 @@ public record Snapshot(
       OptionalDouble collectorBytesPerSecond,
       long nonHeapBytes,
       Evidence evidence,
-      Layout layout) {}
+      Layout layout) {
+
+    /** Today's measurement as a point of the curve. */
+    public CurvePoint point() {
+      return new CurvePoint(
+          heapMaxBytes,
+          liveBytes,
+          youngGcSecondsPerSecond,
+          Math.max(0, gcSecondsPerSecond - youngGcSecondsPerSecond));
+    }
+
+    /** This workload with {@code layout}. */
+    public Workload withLayout(Layout layout) {
+      return new Workload(
+          name,
+          kind,
+          replicas,
+          collector,
+          heapMaxBytes,
+          liveBytes,
+          gcSecondsPerSecond,
+          youngGcSecondsPerSecond,
+          offsetBytes,
+          promotionBytesPerSecond,
+          collectorBytesPerSecond,
+          nonHeapBytes,
+          evidence,
+          layout);
+    }
+  }
 
   /**
    * What a workload's generations hold and need, where measured or declared.
@@ -96,13 +126,31 @@ public record Snapshot(
    * @param startupLiveBytes the most held after a collection since the pods started
    * @param allocationBytesPerSecond bytes allocated per second
    * @param steadyGcSecondsPerSecond GC time that no heap size changes (Y), 0 when not known
+   * @param history GC times measured earlier under other heaps, oldest first
    */
   public record Layout(
       OptionalLong youngCapacityBytes,
       OptionalLong oldCapacityBytes,
       OptionalLong startupLiveBytes,
       OptionalDouble allocationBytesPerSecond,
-      double steadyGcSecondsPerSecond) {
+      double steadyGcSecondsPerSecond,
+      List<CurvePoint> history) {
+
+    /** Copies the history. */
+    public Layout {
+      history = List.copyOf(history);
+    }
+
+    /** This layout with {@code points} as its history. */
+    public Layout withHistory(List<CurvePoint> points) {
+      return new Layout(
+          youngCapacityBytes,
+          oldCapacityBytes,
+          startupLiveBytes,
+          allocationBytesPerSecond,
+          steadyGcSecondsPerSecond,
+          points);
+    }
 
     /** Nothing known beyond the required fields: a snapshot written by hand. */
     public static final Layout UNKNOWN =
@@ -111,6 +159,7 @@ public record Snapshot(
             OptionalLong.empty(),
             OptionalLong.empty(),
             OptionalDouble.empty(),
-            0);
+            0,
+            List.of());
   }
 }

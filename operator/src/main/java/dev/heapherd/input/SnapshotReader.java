@@ -1,5 +1,6 @@
 package dev.heapherd.input;
 
+import dev.heapherd.engine.CurvePoint;
 import java.nio.file.Path;
 import java.time.Instant;
 import java.time.format.DateTimeParseException;
@@ -47,6 +48,7 @@ public final class SnapshotReader {
           "startupLiveBytes",
           "allocationBytesPerSecond",
           "steadyGcSecondsPerSecond",
+          "history",
           "sampleCount",
           "confidence",
           "notes");
@@ -160,7 +162,41 @@ public final class SnapshotReader {
             oldCapacity,
             startup == null ? OptionalLong.empty() : OptionalLong.of(startup),
             f.optionalNonNegativeNumber("allocationBytesPerSecond"),
-            steady));
+            steady,
+            history(f)));
+  }
+
+  /** Earlier points of the curve: each a heap with the GC times measured under it. */
+  private static List<CurvePoint> history(Field f) throws InputException {
+    List<CurvePoint> points = new ArrayList<>();
+    if (f.optional("history").isEmpty()) {
+      return points;
+    }
+    for (Field item : f.required("history").list()) {
+      item.allowOnly(
+          Set.of("heapBytes", "liveBytes", "youngGcSecondsPerSecond", "oldGcSecondsPerSecond"));
+      long heap = item.required("heapBytes").positiveBytes();
+      long live = item.required("liveBytes").positiveBytes();
+      if (live >= heap) {
+        throw item.required("liveBytes").error("is not below heapBytes");
+      }
+      points.add(
+          new CurvePoint(
+              heap,
+              live,
+              fraction(item, "youngGcSecondsPerSecond"),
+              fraction(item, "oldGcSecondsPerSecond")));
+    }
+    return points;
+  }
+
+  /** A share of each second: between 0 and 1. */
+  private static double fraction(Field f, String name) throws InputException {
+    double value = f.required(name).nonNegativeNumber();
+    if (value > 1) {
+      throw f.required(name).error("is above 1: more than a whole second of GC per second");
+    }
+    return value;
   }
 
   /** A generation's capacity: positive and at most the heap. */

@@ -4,6 +4,7 @@ import com.fasterxml.jackson.annotation.JsonInclude;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.dataformat.yaml.YAMLGenerator;
 import com.fasterxml.jackson.dataformat.yaml.YAMLMapper;
+import dev.heapherd.engine.CurvePoint;
 import java.util.List;
 import java.util.OptionalDouble;
 import java.util.OptionalLong;
@@ -50,6 +51,7 @@ public final class SnapshotWriter {
       Long startupLiveBytes,
       Double allocationBytesPerSecond,
       Double steadyGcSecondsPerSecond,
+      List<CurvePoint> history,
       Long sampleCount,
       String confidence,
       List<String> notes) {}
@@ -82,6 +84,7 @@ public final class SnapshotWriter {
                         w.layout().steadyGcSecondsPerSecond() > 0
                             ? w.layout().steadyGcSecondsPerSecond()
                             : null,
+                        w.layout().history(),
                         w.evidence().sampleCount() > 0 ? w.evidence().sampleCount() : null,
                         w.evidence().confidence(),
                         w.evidence().notes()))

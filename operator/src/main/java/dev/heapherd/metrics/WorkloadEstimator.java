@@ -169,7 +169,8 @@ public final class WorkloadEstimator {
                 present(pods, Signal.ALLOCATION_BYTES_PER_SECOND)
                     .map(v -> OptionalDouble.of(mean(v)))
                     .orElse(OptionalDouble.empty()),
-                0)));
+                0,
+                List.of())));
   }
 
   /** Sorted values of an optional signal when every pod has one, else empty. */

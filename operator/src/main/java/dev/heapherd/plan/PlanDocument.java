@@ -1,5 +1,6 @@
 package dev.heapherd.plan;
 
+import dev.heapherd.engine.CurveFit;
 import dev.heapherd.engine.GcForecast;
 import dev.heapherd.engine.Objective;
 import dev.heapherd.engine.PoolPlan;
@@ -84,6 +85,7 @@ public record PlanDocument(
       double heapIndependentGcSecondsPerSecond,
       YoungPart young,
       Share oldShare,
+      int curveHeaps,
       double weight,
       String bound,
       long lowHeapBytes,
@@ -100,7 +102,7 @@ public record PlanDocument(
     long held = Planner.heldMemoryBytes(snapshot);
     List<WorkloadEntry> entries = new ArrayList<>();
     for (int i = 0; i < plan.workloads().size(); i++) {
-      entries.add(entry(plan.workloads().get(i), snapshot.workloads().get(i).evidence()));
+      entries.add(entry(plan.workloads().get(i), snapshot.workloads().get(i)));
     }
     return new PlanDocument(
         pool.name(),
@@ -120,8 +122,9 @@ public record PlanDocument(
         CAUTION);
   }
 
-  private static WorkloadEntry entry(WorkloadPlan p, Snapshot.Evidence evidence) {
+  private static WorkloadEntry entry(WorkloadPlan p, Snapshot.Workload measured) {
     var w = p.workload();
+    var evidence = measured.evidence();
     return new WorkloadEntry(
         w.name(),
         w.replicas(),
@@ -139,6 +142,7 @@ public record PlanDocument(
             w.gc().youngConstantBytes(),
             Share.of(w.gc().generations().youngShare(), w.gc().generations().youngShareMeasured())),
         Share.of(w.gc().generations().oldShare(), w.gc().generations().oldShareMeasured()),
+        CurveFit.distinctHeaps(Planner.points(measured)),
         w.weight(),
         p.bound().label(),
         p.bounds().lowBytes(),

@@ -118,6 +118,16 @@ public final class PlanTable {
           .append(String.join(", ", kept))
           .append(". Measure over a longer window or check that the pods export GC metrics.\n");
     }
+    List<String> onePoint =
+        doc.workloads().stream()
+            .filter(w -> w.curveHeaps() < 2)
+            .map(PlanDocument.WorkloadEntry::name)
+            .toList();
+    if (!onePoint.isEmpty()) {
+      out.append("Curves resting on one measured heap (elsewhere the model extrapolates): ")
+          .append(String.join(", ", onePoint))
+          .append('\n');
+    }
     out.append("Binding constraints: ")
         .append(binding.isEmpty() ? "none" : String.join(", ", binding))
         .append('\n');

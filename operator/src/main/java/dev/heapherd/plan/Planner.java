@@ -1,6 +1,8 @@
 package dev.heapherd.plan;
 
 import dev.heapherd.engine.Allocator;
+import dev.heapherd.engine.CurveFit;
+import dev.heapherd.engine.CurvePoint;
 import dev.heapherd.engine.GcConstants;
 import dev.heapherd.engine.GcModel;
 import dev.heapherd.engine.GcObservation;
@@ -81,7 +83,7 @@ public final class Planner {
     List<Workload> out = new ArrayList<>();
     for (Snapshot.Workload m : snapshot.workloads()) {
       WorkloadSettings settings = pool.settingsFor(m.name());
-      GcModel gc = GcConstants.estimate(observation(m));
+      GcModel gc = CurveFit.fit(GcConstants.estimate(observation(m)), points(m));
       out.add(
           new Workload(
               m.name(),
@@ -95,6 +97,13 @@ public final class Planner {
               settings.toRules()));
     }
     return out;
+  }
+
+  /** Every point of a workload's curve: its history and today's measurement. */
+  public static List<CurvePoint> points(Snapshot.Workload m) {
+    List<CurvePoint> points = new ArrayList<>(m.layout().history());
+    points.add(m.point());
+    return points;
   }
 
   /** The engine's view of one workload's measurements. */

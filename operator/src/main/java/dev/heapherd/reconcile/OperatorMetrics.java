@@ -50,6 +50,28 @@ public final class OperatorMetrics {
         .set(afterSecondsPerHour);
   }
 
+  /** A workload's predicted GC time at a heap and what was measured once it ran with it. */
+  void checkedGc(
+      String namespace,
+      String pool,
+      String workload,
+      double predictedSecondsPerHour,
+      double observedSecondsPerHour) {
+    Tags tags = Tags.of("namespace", namespace, "pool", pool, "workload", workload);
+    gauge(
+            "workload.gc.checked.predicted",
+            "GC seconds per hour predicted for the heap the workload now runs with",
+            "seconds",
+            tags)
+        .set(predictedSecondsPerHour);
+    gauge(
+            "workload.gc.checked.observed",
+            "GC seconds per hour measured once the workload ran with the predicted heap",
+            "seconds",
+            tags)
+        .set(observedSecondsPerHour);
+  }
+
   /** One rollout step taken: started, finished or rolled back. */
   void step(String namespace, String pool, String step) {
     Counter.builder(PREFIX + "rollout.steps")

@@ -14,6 +14,7 @@ import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.Locale;
 import java.util.Map;
 import java.util.stream.Collectors;
 
@@ -113,9 +114,13 @@ final class PoolVisit {
       Snapshot snapshot,
       boolean keepPublished,
       OperatorMetrics meters) {
+    Snapshot learned = CurveHistory.withHistory(snapshot, status);
+    for (CurveHistory.Check check : CurveHistory.record(status, snapshot, now)) {
+      checked(check, meters);
+    }
     ProposalBuilder.Result fresh;
     try {
-      fresh = ProposalBuilder.build(spec, states, kinds, snapshot, now);
+      fresh = ProposalBuilder.build(spec, states, kinds, learned, now);
     } catch (InputException e) {
       set(Conditions.PROPOSAL_READY, Conditions.FALSE, "CannotPlan", e.getMessage());
       set(Conditions.BUDGET_FEASIBLE, Conditions.UNKNOWN, "CannotPlan", "no plan was computed");
@@ -148,6 +153,7 @@ final class PoolVisit {
             : ProposalBuilder.sticky(
                 previous, fresh.proposal(), spec.rollout().changeThresholdPercent());
     status.proposal = chosen;
+    CurveHistory.expect(status);
     set(Conditions.PROPOSAL_READY, Conditions.TRUE, "Computed", "proposal " + chosen.hash);
     if (previous == null || !chosen.hash.equals(previous.hash)) {
       events.record(
@@ -179,6 +185,31 @@ final class PoolVisit {
         pool.getMetadata().getName(),
         Double.parseDouble(chosen.gcSecondsPerHourBefore),
         Double.parseDouble(chosen.gcSecondsPerHourAfter));
+  }
+
+  /** Publishes one prediction checked against measurement: an event and two gauges. */
+  private void checked(CurveHistory.Check check, OperatorMetrics meters) {
+    events.record(
+        pool,
+        pool,
+        PoolEvents.NORMAL,
+        "GcPredictionChecked",
+        String.format(
+            Locale.ROOT,
+            "%s at heap %s: predicted %.1f GC s/h, measured %.1f (%+.0f%%)",
+            check.workload(),
+            Quantity.format(check.heapBytes()),
+            check.predicted(),
+            check.observed(),
+            check.predicted() > 0
+                ? 100 * (check.observed() - check.predicted()) / check.predicted()
+                : 0));
+    meters.checkedGc(
+        namespace(),
+        pool.getMetadata().getName(),
+        check.workload(),
+        check.predicted(),
+        check.observed());
   }
 
   /** Records an action taken on a workload: an event and a history line. */

@@ -1,0 +1,150 @@
+package dev.heapherd.engine;
+
+import java.util.ArrayList;
+import java.util.List;
+
+/**
+ * Fits a workload's curve to the points of earlier heaps by bounded (non-negative) least squares:
+ * the young part {@code Yy + a/(youngShare*H)} to the young GC times and the old part {@code Yo +
+ * k/(oldShare*H - L - E0)} to the rest, each over {@code Yy, a, Yo, k >= 0}, and {@code E0} over a
+ * grid below the smallest old headroom seen. Pure: no I/O.
+ */
+public final class CurveFit {
+
+  /**
+   * Heaps closer than this fraction count as one: a few percent is what rounding to MiB and pool
+   * accounting move a heap without anyone changing it. Our choice.
+   */
+  public static final double SAME_HEAP_FRACTION = 0.03;
+
+  /** Points at distinct heaps needed to separate a heap-independent part from a heap one. */
+  static final int POINTS_FOR_TWO_TERMS = 2;
+
+  /** Points at distinct heaps needed before the offset E0 is fitted, not assumed. */
+  static final int POINTS_FOR_OFFSET = 3;
+
+  /** Offsets tried, as fractions of the smallest old headroom seen: a grid, then refined. */
+  private static final int OFFSET_GRID = 40;
+
+  /** The largest offset tried, as a fraction of the smallest old headroom seen. */
+  private static final double MAX_OFFSET_SHARE = 0.9;
+
+  private CurveFit() {}
+
+  /** Points whose heaps differ from each other by at least {@link #SAME_HEAP_FRACTION}. */
+  public static int distinctHeaps(List<CurvePoint> points) {
+    List<Long> heaps = new ArrayList<>();
+    for (CurvePoint p : points) {
+      if (heaps.stream().noneMatch(h -> sameHeap(h, p.heapBytes()))) {
+        heaps.add(p.heapBytes());
+      }
+    }
+    return heaps.size();
+  }
+
+  /** True when two heaps count as one for fitting. */
+  public static boolean sameHeap(long a, long b) {
+    return Math.abs(a - b) <= SAME_HEAP_FRACTION * Math.max(a, b);
+  }
+
+  /**
+   * The curve fitted to {@code points}, keeping {@code calibrated}'s shares; {@code calibrated}
+   * itself when the points span fewer than {@link #POINTS_FOR_TWO_TERMS} distinct heaps.
+   */
+  public static GcModel fit(GcModel calibrated, List<CurvePoint> points) {
+    if (distinctHeaps(points) < POINTS_FOR_TWO_TERMS) {
+      return calibrated;
+    }
+    Generations g = calibrated.generations();
+    int n = points.size();
+    double[] youngX = new double[n];
+    double[] youngY = new double[n];
+    double[] oldY = new double[n];
+    double smallestHeadroom = Double.MAX_VALUE;
+    for (int i = 0; i < n; i++) {
+      CurvePoint p = points.get(i);
+      youngX[i] = 1 / (g.youngShare() * p.heapBytes());
+      youngY[i] = p.youngGcSecondsPerSecond();
+      oldY[i] = p.oldGcSecondsPerSecond();
+      smallestHeadroom = Math.min(smallestHeadroom, g.oldShare() * p.heapBytes() - p.liveBytes());
+    }
+    if (smallestHeadroom <= 0) {
+      return calibrated;
+    }
+    Line young = nonNegativeLine(youngX, youngY);
+    long offset = calibrated.offsetBytes();
+    Line old = oldLine(points, g, offset);
+    if (distinctHeaps(points) >= POINTS_FOR_OFFSET) {
+      for (int step = 0; step < OFFSET_GRID; step++) {
+        long tried = (long) (smallestHeadroom * MAX_OFFSET_SHARE * step / OFFSET_GRID);
+        Line candidate = oldLine(points, g, tried);
+        if (candidate.residual() < old.residual()) {
+          old = candidate;
+          offset = tried;
+        }
+      }
+    }
+    return new GcModel(
+        old.slope(),
+        offset,
+        young.intercept() + old.intercept(),
+        young.slope(),
+        g,
+        GcConstantEstimator.HISTORY_FIT);
+  }
+
+  private static Line oldLine(List<CurvePoint> points, Generations g, long offset) {
+    int n = points.size();
+    double[] x = new double[n];
+    double[] y = new double[n];
+    for (int i = 0; i < n; i++) {
+      CurvePoint p = points.get(i);
+      x[i] = 1 / (g.oldShare() * p.heapBytes() - p.liveBytes() - offset);
+      y[i] = p.oldGcSecondsPerSecond();
+    }
+    return nonNegativeLine(x, y);
+  }
+
+  /**
+   * Least squares {@code y = intercept + slope * x} with both coefficients >= 0: the unconstrained
+   * answer when it is feasible, else the better of the two one-coefficient fits (the
+   * Karush-Kuhn-Tucker conditions of a two-variable problem leave no other candidate).
+   */
+  static Line nonNegativeLine(double[] x, double[] y) {
+    int n = x.length;
+    double sx = 0;
+    double sy = 0;
+    double sxx = 0;
+    double sxy = 0;
+    for (int i = 0; i < n; i++) {
+      sx += x[i];
+      sy += y[i];
+      sxx += x[i] * x[i];
+      sxy += x[i] * y[i];
+    }
+    double det = n * sxx - sx * sx;
+    List<Line> candidates = new ArrayList<>();
+    if (det > 0) {
+      double slope = (n * sxy - sx * sy) / det;
+      double intercept = (sy - slope * sx) / n;
+      if (slope >= 0 && intercept >= 0) {
+        candidates.add(line(x, y, intercept, slope));
+      }
+    }
+    candidates.add(line(x, y, 0, sxx > 0 ? Math.max(0, sxy / sxx) : 0));
+    candidates.add(line(x, y, Math.max(0, sy / n), 0));
+    return candidates.stream().min((a, b) -> Double.compare(a.residual(), b.residual())).get();
+  }
+
+  private static Line line(double[] x, double[] y, double intercept, double slope) {
+    double sum = 0;
+    for (int i = 0; i < x.length; i++) {
+      double e = y[i] - intercept - slope * x[i];
+      sum += e * e;
+    }
+    return new Line(intercept, slope, sum);
+  }
+
+  /** A fitted line and its sum of squared residuals. */
+  record Line(double intercept, double slope, double residual) {}
+}
