@@ -68,9 +68,9 @@ final class Fleet {
         .withImage(WORKLOAD_IMAGE)
         .addNewEnv()
         .withName("JAVA_TOOL_OPTIONS")
-        // Parallel reports old-generation collections apart from young ones on JDK 17, which
-        // the estimators need to see how GC time depends on the heap (docs/metrics.md).
-        .withValue("-Xmx" + s.heapMib() + "m -XX:+UseParallelGC")
+        // The JDK's default collector: on JDK 17 G1 reports mixed collections among young ones,
+        // and young GC time falls as the heap grows (docs/model.md).
+        .withValue("-Xmx" + s.heapMib() + "m -XX:+UseG1GC")
         .endEnv()
         .addNewEnv()
         .withName("WORKLOAD_LIVE_MIB")
