@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # Development entry point: `./dev.sh demo` plans the bundled example, `./dev.sh test` runs every
 # test (what CI runs), `./dev.sh bench` prints the engine's benchmark figures, `./dev.sh crds`
-# copies the CRD the build generated from the Java types into crds/.
+# copies the CRD the build generated from the Java types into crds/, `./dev.sh lab` runs the
+# benchmark lab of real applications (tens of minutes) and writes docs/benchmarks.md's lab section.
 set -euo pipefail
 cd "$(dirname "$0")"
 
@@ -45,11 +46,23 @@ case "${1:-}" in
     cp crds/heappools.heapherd.dev-v1.yml helm/heapherd/crds/
     echo "crds/ and helm/heapherd/crds/ updated"
     ;;
+  lab)
+    need_packages
+    mvn_batch -q -DskipTests -Dspotless.check.skip=true package
+    # The plots need matplotlib; it goes into a virtual environment of its own, kept in the cache.
+    venv="${HEAPHERD_CACHE:-$HOME/.cache/heapherd}/lab-venv"
+    if [ ! -x "$venv/bin/python" ] || ! "$venv/bin/python" -c "import matplotlib" 2>/dev/null; then
+      python3 -m venv "$venv"
+      "$venv/bin/pip" install -q matplotlib
+    fi
+    shift
+    "$venv/bin/python" e2e/lab/compare.py "$@"
+    ;;
   bench)
     mvn_batch -q -Pbench -pl operator -am -DskipTests -Dspotless.check.skip=true verify
     ;;
   *)
-    echo "usage: ./dev.sh demo|test|bench|crds" >&2
+    echo "usage: ./dev.sh demo|test|bench|crds|lab" >&2
     exit 2
     ;;
 esac

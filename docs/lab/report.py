@@ -1,0 +1,142 @@
+#!/usr/bin/env python3
+"""Writes the lab's plots (PNG) and its section of docs/benchmarks.md from the lab's results.
+
+Usage: report.py RESULTS_FOLDER   (the folder compare.py wrote G1.json and Parallel.json into)
+"""
+
+import json
+import sys
+from pathlib import Path
+
+import matplotlib
+
+matplotlib.use("Agg")
+import matplotlib.pyplot as plt  # noqa: E402
+
+MIB = 1 << 20
+ROOT = Path(__file__).resolve().parents[2]
+BENCHMARKS = ROOT / "docs" / "benchmarks.md"
+BEGIN = "<!-- lab results: written by docs/lab/report.py -->"
+END = "<!-- end of lab results -->"
+
+
+def curve(entry, heap_bytes):
+    """GC seconds per second of one pod at heap_bytes, from a plan entry's curve."""
+    young = entry["young"]
+    old_headroom = entry["oldShare"]["value"] * heap_bytes - entry["liveBytes"] - entry["offsetBytes"]
+    if old_headroom <= 0:
+        return float("nan")
+    return (
+        entry["heapIndependentGcSecondsPerSecond"]
+        + young["constant"] / (young["share"]["value"] * heap_bytes)
+        + entry["gcConstant"] / old_headroom
+    )
+
+
+def measured_points(summary, app):
+    points = []
+    for runs in summary["runs"].values():
+        for run in runs:
+            for a in run["apps"]:
+                if a["app"] == app:
+                    points.append((a["heapBytes"] / MIB, a["gcSecondsPerSecond"]))
+    return points
+
+
+def plot_curves(summary, path):
+    entries = summary["plan"]["workloads"]
+    fig, axes = plt.subplots(1, len(entries), figsize=(3.2 * len(entries), 3.2), squeeze=False)
+    for ax, entry in zip(axes[0], entries):
+        points = measured_points(summary, entry["name"])
+        heaps = [h for h, _ in points] + [entry["currentHeapBytes"] / MIB, entry["heapBytes"] / MIB]
+        low, high = min(heaps) * 0.8, max(heaps) * 1.2
+        xs = [low + (high - low) * i / 100 for i in range(101)]
+        ax.plot(xs, [curve(entry, x * MIB) for x in xs], color="black", label="model")
+        ax.scatter([h for h, _ in points], [g for _, g in points], marker="o", facecolors="none",
+                   edgecolors="black", label="measured")
+        ax.axvline(entry["currentHeapBytes"] / MIB, linestyle=":", color="grey", label="today")
+        ax.axvline(entry["heapBytes"] / MIB, linestyle="--", color="black", label="proposal")
+        ax.set_title(entry["name"])
+        ax.set_xlabel("heap (MiB)")
+        ax.set_ylim(bottom=0)
+    axes[0][0].set_ylabel("GC seconds per second")
+    axes[0][0].legend(fontsize="small")
+    fig.suptitle(f"{summary['collector']}: per-workload GC cost curves")
+    fig.tight_layout()
+    fig.savefig(path, dpi=110)
+    plt.close(fig)
+
+
+def plot_pool(summaries, path):
+    fig, axes = plt.subplots(1, len(summaries), figsize=(5 * len(summaries), 3.4), squeeze=False)
+    for ax, summary in zip(axes[0], summaries):
+        names = list(summary["poolGcSecondsPerSecond"])
+        values = [summary["poolGcSecondsPerSecond"][n] for n in names]
+        hatches = ["//" if n == "proposal" else "" for n in names]
+        bars = ax.bar(range(len(names)), values, color="white", edgecolor="black")
+        for bar, hatch in zip(bars, hatches):
+            bar.set_hatch(hatch)
+        ax.set_xticks(range(len(names)), names, rotation=40, ha="right", fontsize="small")
+        ax.set_ylabel("pool GC seconds per second")
+        ax.set_title(f"{summary['collector']}: same total heap, mean of runs")
+    fig.tight_layout()
+    fig.savefig(path, dpi=110)
+    plt.close(fig)
+
+
+def table(summary):
+    lines = [
+        "| split | heaps (MiB) | pool GC s/s | vs proposal |",
+        "|---|---|---|---|",
+    ]
+    proposal = summary["poolGcSecondsPerSecond"]["proposal"]
+    for name, value in summary["poolGcSecondsPerSecond"].items():
+        heaps = ", ".join(f"{a} {int(m)}" for a, m in sorted(summary["splitsMib"][name].items()))
+        lines.append(f"| {name} | {heaps} | {value:.4f} | {value / proposal:.2f} |")
+    return "\n".join(lines)
+
+
+def section(summaries):
+    out = [BEGIN, "", "## The lab: real applications under G1 and Parallel", ""]
+    out.append(
+        "`./dev.sh lab` runs five real open-source libraries as paced services (e2e/lab), measures "
+        "them with the real Prometheus, plans them, and runs the fleet again at the same total heap "
+        "under each split, every split twice in alternating order. Figures from the project's "
+        "2-core build machine; they vary with its load."
+    )
+    for s in summaries:
+        c = s["collector"]
+        out += ["", f"### {c}", "", table(s), ""]
+        out.append(
+            f"Predicted change of pool GC time (proposal vs today): {s['predictedChange']:+.1%}; "
+            f"measured: {s['measuredChange']:+.1%}. Proposal at or below the better of linear rule "
+            f"and equal split: {'yes' if s['proposalAtOrBelowBetterRule'] else 'no'}; within 5 % "
+            f"of the grid's best: {'yes' if s['proposalWithinGridTolerance'] else 'no'}; "
+            f"prediction within 20 % of measurement: "
+            f"{'yes' if s['predictionWithinTolerance'] else 'no'}."
+        )
+        out += ["", f"![{c} curves](lab/{c}-curves.png)", ""]
+    out += ["![pool GC time per split](lab/pool.png)", "", END]
+    return "\n".join(out)
+
+
+def main():
+    results = Path(sys.argv[1])
+    summaries = [
+        json.loads((results / f"{c}.json").read_text())
+        for c in ("G1", "Parallel")
+        if (results / f"{c}.json").exists()
+    ]
+    for s in summaries:
+        plot_curves(s, ROOT / "docs" / "lab" / f"{s['collector']}-curves.png")
+    plot_pool(summaries, ROOT / "docs" / "lab" / "pool.png")
+    text = BENCHMARKS.read_text()
+    if BEGIN in text:
+        text = text[: text.index(BEGIN)] + section(summaries) + text[text.index(END) + len(END):]
+    else:
+        text = text.rstrip() + "\n\n" + section(summaries) + "\n"
+    BENCHMARKS.write_text(text)
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,225 @@
+#!/usr/bin/env python3
+"""Runs the benchmark lab: measure the fleet, plan it, and compare splits of the same memory.
+
+For each collector: run the lab's real applications at today's heaps, measure them with the real
+Prometheus and `heapherd snapshot`, plan with `heapherd plan`, then run the fleet again at the same
+total heap under the linear rule, an equal split, the proposal and a small grid of other splits,
+each twice in alternating order, and compare the pool's measured GC time. Writes results as JSON
+and the plots and tables of docs/benchmarks.md.
+"""
+
+import argparse
+import json
+import os
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[2]
+LAB_JAR = ROOT / "e2e" / "lab" / "target" / "heapherd-lab.jar"
+HEAPHERD_JAR = ROOT / "operator" / "target" / "heapherd.jar"
+MIB = 1 << 20
+
+# Today's heaps: what a team sizing by habit might give each service, in MiB. Our scenario.
+TODAY_MIB = {"search": 640, "sql": 384, "cache": 512, "graph": 448, "codec": 256}
+
+# Share of the proposal's spare heap moved between two workloads for the grid's other splits:
+# large enough to change GC time measurably, small enough to stay near the optimum.
+GRID_SHIFT = 0.25
+
+# The acceptance bounds of the lab: within 5 % of the grid's best, predicted change within 20 %
+# of the measured one.
+GRID_TOLERANCE = 0.05
+PREDICTION_TOLERANCE = 0.20
+
+
+def log(message):
+    print(f"[lab {time.strftime('%H:%M:%S')}] {message}", flush=True)
+
+
+def heaps_arg(heaps_mib):
+    return ",".join(f"{app}={int(mib)}m" for app, mib in sorted(heaps_mib.items()))
+
+
+def run_fleet(collector, heaps_mib, args, out, hold_for_snapshot=None):
+    """Runs the fleet once; with hold_for_snapshot, calls it with the Prometheus URL mid-run."""
+    command = [
+        "java", "-jar", str(LAB_JAR), "run",
+        "--collector", collector,
+        "--heaps", heaps_arg(heaps_mib),
+        "--warmup-seconds", str(args.warmup_seconds),
+        "--measure-seconds", str(args.measure_seconds),
+        "--out", str(out),
+    ]
+    if hold_for_snapshot is None:
+        subprocess.run(command, check=True, stdout=sys.stderr)
+        return json.loads(out.read_text())
+    command += ["--keep-running-seconds", str(args.hold_seconds)]
+    proc = subprocess.Popen(command, stdout=subprocess.PIPE, text=True)
+    try:
+        for line in proc.stdout:
+            sys.stderr.write(line)
+            if line.startswith("prometheus "):
+                hold_for_snapshot(line.split()[1])
+                break
+    finally:
+        proc.wait()
+    if proc.returncode != 0:
+        raise SystemExit(f"lab run failed with exit code {proc.returncode}")
+    return json.loads(out.read_text())
+
+
+def per_app(result):
+    return {a["app"]: a for a in result["apps"]}
+
+
+def pool_gc(result):
+    return sum(a["gcSecondsPerSecond"] for a in result["apps"])
+
+
+def heapherd(*arguments):
+    return subprocess.run(
+        ["java", "-jar", str(HEAPHERD_JAR), *arguments], check=True, capture_output=True, text=True
+    ).stdout
+
+
+def write_pool(path, budget_bytes):
+    path.write_text(
+        f"""# The lab's pool: five services of one fictional team, one heap budget.
+apiVersion: heapherd.dev/v1alpha1
+kind: HeapPool
+metadata:
+  name: lab
+  namespace: lab
+spec:
+  mode: DryRun
+  memoryBudget: "{budget_bytes}"
+  selector:
+    matchLabels:
+      heapherd.dev/pool: lab
+  defaults:
+    heapFloor: 64Mi
+    minHeadroomPercent: 10
+    maxStepPercent: 400
+    limitMargin: 0Mi
+"""
+    )
+
+
+def grid_splits(proposal_mib, live_mib):
+    """The proposal with a share of spare heap moved between each pair of neighbours by pull."""
+    apps = sorted(proposal_mib)
+    splits = []
+    for i in range(len(apps)):
+        giver, taker = apps[i], apps[(i + 1) % len(apps)]
+        moved = GRID_SHIFT * (proposal_mib[giver] - live_mib[giver])
+        split = dict(proposal_mib)
+        split[giver] -= moved
+        split[taker] += moved
+        splits.append((f"grid {giver}->{taker}", split))
+    return splits
+
+
+def lab(collector, args, work):
+    work.mkdir(parents=True, exist_ok=True)
+    snapshot_file = work / "snapshot.yaml"
+    pool_file = work / "pool.yaml"
+
+    def take_snapshot(url):
+        log(f"{collector}: snapshot from {url}")
+        text = heapherd(
+            "snapshot", "--prometheus", url, "--pool", str(ROOT / "e2e" / "lab" / "pool.yaml"),
+            "--window-seconds", str(args.measure_seconds), "-o", str(snapshot_file))
+        sys.stderr.write(text)
+
+    log(f"{collector}: today's heaps {TODAY_MIB}")
+    today = run_fleet(collector, TODAY_MIB, args, work / "today.json", take_snapshot)
+    snapshot = snapshot_file.read_text()
+    # The budget is what today's heaps use with their measured non-heap memory: equal memory.
+    plan_probe = json.loads(heapherd(
+        "plan", "--pool", str(ROOT / "e2e" / "lab" / "pool.yaml"), "--snapshot",
+        str(snapshot_file), "-o", "json"))
+    budget = sum(
+        w["replicas"] * (w["currentHeapBytes"] + -(-w["nonHeapBytes"] // MIB) * MIB)
+        for w in plan_probe["workloads"])
+    write_pool(pool_file, budget)
+    plan = json.loads(heapherd(
+        "plan", "--pool", str(pool_file), "--snapshot", str(snapshot_file), "-o", "json"))
+    (work / "plan.json").write_text(json.dumps(plan, indent=2))
+    sys.stderr.write(heapherd("plan", "--pool", str(pool_file), "--snapshot", str(snapshot_file)))
+    entries = {w["name"]: w for w in plan["workloads"]}
+    proposal = {a: entries[a]["heapBytes"] / MIB for a in entries}
+    linear = {a: entries[a]["comparison"]["linearRuleHeapBytes"] / MIB for a in entries}
+    equal = {a: entries[a]["comparison"]["equalSplitHeapBytes"] / MIB for a in entries}
+    live = {a: entries[a]["liveBytes"] / MIB for a in entries}
+    splits = [
+        ("today", dict(TODAY_MIB)),
+        ("linear rule", linear),
+        ("equal split", equal),
+        ("proposal", proposal),
+    ]
+    splits += grid_splits(proposal, live)
+
+    runs = {name: [] for name, _ in splits}
+    for round_index in range(args.rounds):
+        order = splits if round_index % 2 == 0 else list(reversed(splits))
+        for name, heaps in order:
+            log(f"{collector}: round {round_index + 1}, {name}: {heaps_arg(heaps)}")
+            file = work / f"run-{name.replace(' ', '_').replace('>', '')}-{round_index}.json"
+            runs[name].append(run_fleet(collector, heaps, args, file))
+
+    measured = {name: sum(pool_gc(r) for r in rs) / len(rs) for name, rs in runs.items()}
+    grid_best = min(measured.values())
+    predicted_change = (
+        plan["predictedGcSecondsPerHour"]["proposed"] / plan["predictedGcSecondsPerHour"]["current"]
+        - 1)
+    measured_change = measured["proposal"] / measured["today"] - 1
+    summary = {
+        "collector": collector,
+        "todayMib": TODAY_MIB,
+        "budgetBytes": budget,
+        "todayPoolGcSecondsPerSecond": pool_gc(today),
+        "poolGcSecondsPerSecond": measured,
+        "splitsMib": {name: heaps for name, heaps in splits},
+        "predictedChange": predicted_change,
+        "measuredChange": measured_change,
+        "proposalAtOrBelowBetterRule": measured["proposal"]
+        <= min(measured["linear rule"], measured["equal split"]),
+        "proposalWithinGridTolerance": measured["proposal"] <= grid_best * (1 + GRID_TOLERANCE),
+        "predictionWithinTolerance": abs(predicted_change - measured_change)
+        <= PREDICTION_TOLERANCE * abs(measured_change),
+        "plan": plan,
+        "today": today,
+        "runs": runs,
+    }
+    (work / "summary.json").write_text(json.dumps(summary, indent=2))
+    return summary
+
+
+def main():
+    parser = argparse.ArgumentParser(description=__doc__)
+    parser.add_argument("--collectors", default="G1,Parallel")
+    parser.add_argument("--warmup-seconds", type=int, default=60)
+    parser.add_argument("--measure-seconds", type=int, default=60)
+    parser.add_argument("--hold-seconds", type=int, default=30)
+    parser.add_argument("--rounds", type=int, default=2)
+    parser.add_argument("--work", default=str(ROOT / "e2e" / "lab" / "target" / "lab-runs"))
+    parser.add_argument("--results", default=str(ROOT / "docs" / "lab"))
+    args = parser.parse_args()
+    results = Path(args.results)
+    results.mkdir(parents=True, exist_ok=True)
+    for collector in args.collectors.split(","):
+        summary = lab(collector, args, Path(args.work) / collector)
+        (results / f"{collector}.json").write_text(json.dumps(summary, indent=2))
+        log(f"{collector}: pool GC s/s per split: " + ", ".join(
+            f"{k} {v:.4f}" for k, v in summary["poolGcSecondsPerSecond"].items()))
+        log(f"{collector}: predicted change {summary['predictedChange']:+.1%},"
+            f" measured {summary['measuredChange']:+.1%}")
+    subprocess.run([sys.executable, str(ROOT / "docs" / "lab" / "report.py"), str(results)],
+                   check=True)
+
+
+if __name__ == "__main__":
+    os.chdir(ROOT)
+    main()
