@@ -332,24 +332,29 @@ public final class QueryProfiles {
   /**
    * The heap limit from the heap pools' maxima ({@code poolMatcher} selects heap pools, {@code
    * poolLabel} names them): their sum, plus one more survivor space where the collector keeps two
-   * and reports one ({@link #TWIN_SURVIVOR_POOLS}). Pools without a maximum report -1 (G1's eden
-   * and survivor) and are left out; the old pool's maximum times 0 keeps pods without a twin.
+   * and reports one ({@link #TWIN_SURVIVOR_POOLS}), added up per scrape and then taken at its
+   * highest over the window. Summing each pool's own highest would overstate it: Parallel resizes
+   * its survivor spaces as it runs and reports eden's maximum as what they leave, so the pools'
+   * peaks come from different moments. Pools without a maximum report -1 (G1's eden and survivor)
+   * and are left out; the old pool's maximum times 0 keeps pods without a twin.
    */
   private static String heapLimit(String metric, String poolMatcher, String poolLabel) {
     String pools = series(metric, poolMatcher);
     String twins = series(metric, poolMatcher, poolLabel + "=~\"" + TWIN_SURVIVOR_POOLS + "\"");
     String old = series(metric, poolMatcher, poolLabel + "=~\"" + OLD_POOLS + "\"");
-    return "sum "
+    return "max "
         + BY_POD
-        + " (max_over_time("
+        + " (max_over_time((sum "
+        + BY_POD
+        + " ("
         + pools
-        + "[${window}]) > 0) + on (namespace, pod) sum "
+        + " > 0) + on (namespace, pod) sum "
         + BY_POD
-        + " ((max_over_time("
+        + " (("
         + twins
-        + "[${window}]) > 0) or 0 * max_over_time("
+        + " > 0) or 0 * "
         + old
-        + "[${window}]))";
+        + "))[${window}:]))";
   }
 
   /** The old pool's maximum (heap pools selected by {@code poolMatcher}, named by the label). */
