@@ -11,10 +11,10 @@ import java.util.Optional;
  * heap is about 2.5 times the live set it measures after loading (see README).
  */
 public enum AppKind {
-  SEARCH(400, 384),
-  SQL(300, 512),
-  CACHE(3_000, 320),
-  GRAPH(60, 320),
+  SEARCH(100, 320),
+  SQL(300, 384),
+  CACHE(3_000, 352),
+  GRAPH(100, 256),
   CODEC(1_500, 320);
 
   private final double defaultOpsPerSecond;
