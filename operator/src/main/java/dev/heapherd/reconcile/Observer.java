@@ -60,7 +60,7 @@ public final class Observer {
         m.heapBytes().orElse(0),
         "true".equalsIgnoreCase(w.annotations().get(Annotations.OPT_OUT)),
         inFlight,
-        w.rolloutDone(),
+        w.rolloutDone() && !terminating(w, pods),
         failure,
         fingerprint(w.template()).equals(w.annotations().get(Annotations.ROLLED_BACK)),
         instant(w.annotations().get(Annotations.CHANGED_AT)));
@@ -110,6 +110,19 @@ public final class Observer {
   }
 
   /** Why a pod running heapherd's template failed, if one did. */
+  /**
+   * A pod of {@code w} is still shutting down. The workload's controller no longer counts it once
+   * its replacement is ready, but it holds its memory until it exits: the rollout is not done until
+   * it is gone, or the next workload's surge pod could take the pool over its budget.
+   */
+  private static boolean terminating(PoolWorkload w, List<Pod> pods) {
+    return pods.stream()
+        .anyMatch(
+            p ->
+                p.getMetadata().getDeletionTimestamp() != null
+                    && w.selects(p.getMetadata().getLabels()));
+  }
+
   private static Optional<String> failure(
       PoolWorkload w, List<Pod> pods, PodTemplates.MemorySettings m, String variable) {
     for (Pod pod : pods) {

@@ -319,6 +319,27 @@ class ObserverTest {
   }
 
   @Test
+  void rolloutIsNotDoneWhileAReplacedPodIsStillShuttingDown() {
+    // The Deployment controller counts a terminating pod in none of its status figures, but the
+    // pod keeps its memory until it exits.
+    Pod leaving =
+        new PodBuilder(pod("quote-api-5c4d8-q9w2e", SELECTOR, OLD_OPTIONS, running()))
+            .editMetadata()
+            .withDeletionTimestamp("2026-12-02T08:00:00Z")
+            .endMetadata()
+            .build();
+    Pod elsewhere =
+        new PodBuilder(pod("billing-7f6d-a1b2c", Map.of("app", "billing"), OLD_OPTIONS, running()))
+            .editMetadata()
+            .withDeletionTimestamp("2026-12-02T08:00:00Z")
+            .endMetadata()
+            .build();
+
+    assertThat(observe(quoteApi(), leaving).rolloutDone()).isFalse();
+    assertThat(observe(quoteApi(), elsewhere).rolloutDone()).isTrue();
+  }
+
+  @Test
   void rolloutIsNotDoneWhileOldPodsRemain() {
     var surging = quoteApi().editStatus().withReplicas(5).withUpdatedReplicas(2).endStatus();
     var unavailable = quoteApi().editStatus().withAvailableReplicas(3).endStatus();
