@@ -36,6 +36,12 @@ public final class SqlApp implements LabApp {
   /** Rows of an order history at cost scale 1: one page. */
   static final int BASE_HISTORY_ROWS = 20;
 
+  /**
+   * Orders per transaction while loading: one huge transaction would hold its undo log in heap and
+   * need far more than the live set.
+   */
+  static final int LOAD_ORDERS_PER_COMMIT = 1_000;
+
   /** Smallest table sizes that still make meaningful joins. */
   static final int MIN_ROWS = 100;
 
@@ -138,6 +144,9 @@ public final class SqlApp implements LabApp {
     prepare();
     for (int i = 0; i < orders; i++) {
       placeOrder();
+      if (i % LOAD_ORDERS_PER_COMMIT == 0) {
+        connection.commit();
+      }
     }
     connection.commit();
   }
