@@ -37,7 +37,7 @@ def measured_points(summary, app):
     points = []
     for runs in summary["runs"].values():
         for run in runs:
-            for a in run["apps"]:
+            for a in run["apps"] if run else []:
                 if a["app"] == app:
                     points.append((a["heapBytes"] / MIB, a["gcSecondsPerSecond"]))
     return points
