@@ -65,7 +65,8 @@ final class MarginalFilling {
       slope[i] = youngPull[i] > 0 ? youngPull[i] : oldPull[i];
     }
     this.singlePart = single;
-    this.closedForm = single ? new WaterFilling(base, slope, low, high, count) : null;
+    // Built for every pool: its lows and counts also serve pools with two-part terms.
+    this.closedForm = new WaterFilling(base, slope, low, high, count);
   }
 
   /** Heap of term {@code i} at level {@code c}, within its bounds. */
@@ -78,11 +79,7 @@ final class MarginalFilling {
 
   /** Total with every term at its low bound: the least any level can give. */
   double minimumTotal() {
-    double sum = 0;
-    for (int i = 0; i < low.length; i++) {
-      sum += count[i] * low[i];
-    }
-    return sum;
+    return closedForm.minimumTotal();
   }
 
   /**

@@ -97,14 +97,7 @@ public final class QueryProfiles {
               Signal.PROMOTION_BYTES_PER_SECOND,
               List.of(perPod("sum", "rate(", series("jvm_gc_memory_promoted_bytes_total"))),
               Signal.YOUNG_CAPACITY_BYTES,
-              List.of(
-                  perPod(
-                      "sum",
-                      "avg_over_time(",
-                      series(
-                          "jvm_memory_committed_bytes",
-                          "area=\"heap\"",
-                          "id=~\"" + YOUNG_POOLS + "\""))),
+              List.of(youngCapacity("jvm_memory_committed_bytes", "area=\"heap\"", "id")),
               Signal.OLD_CAPACITY_BYTES,
               List.of(oldCapacity("jvm_memory_max_bytes", "area=\"heap\"", "id")),
               Signal.STARTUP_LIVE_BYTES,
@@ -182,10 +175,8 @@ public final class QueryProfiles {
                           "jvm_memory_pool_allocated_bytes_total", "pool=~\"" + OLD_POOLS + "\""))),
               Signal.YOUNG_CAPACITY_BYTES,
               List.of(
-                  perPod(
-                      "sum",
-                      "avg_over_time(",
-                      series("jvm_memory_pool_committed_bytes", "pool=~\"" + YOUNG_POOLS + "\""))),
+                  youngCapacity(
+                      "jvm_memory_pool_committed_bytes", "pool=~\"" + HEAP_POOLS + "\"", "pool")),
               Signal.OLD_CAPACITY_BYTES,
               List.of(
                   oldCapacity("jvm_memory_pool_max_bytes", "pool=~\"" + HEAP_POOLS + "\"", "pool")),
@@ -243,13 +234,10 @@ public final class QueryProfiles {
                       "jvm_memory_pool_name")),
               Signal.YOUNG_CAPACITY_BYTES,
               List.of(
-                  perPod(
-                      "sum",
-                      "avg_over_time(",
-                      series(
-                          "jvm_memory_committed_bytes",
-                          "jvm_memory_type=\"heap\"",
-                          "jvm_memory_pool_name=~\"" + YOUNG_POOLS + "\""))),
+                  youngCapacity(
+                      "jvm_memory_committed_bytes",
+                      "jvm_memory_type=\"heap\"",
+                      "jvm_memory_pool_name")),
               Signal.OLD_CAPACITY_BYTES,
               List.of(
                   oldCapacity(
@@ -355,6 +343,14 @@ public final class QueryProfiles {
         + " > 0) or 0 * "
         + old
         + "))[${window}:]))";
+  }
+
+  /** Eden and survivor pools' committed sizes, averaged over the window. */
+  private static String youngCapacity(String metric, String poolMatcher, String poolLabel) {
+    return perPod(
+        "sum",
+        "avg_over_time(",
+        series(metric, poolMatcher, poolLabel + "=~\"" + YOUNG_POOLS + "\""));
   }
 
   /** The old pool's maximum (heap pools selected by {@code poolMatcher}, named by the label). */
