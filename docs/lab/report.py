@@ -4,8 +4,12 @@
 Usage: report.py RESULTS_FOLDER   (the folder compare.py wrote G1.json and Parallel.json into)
 """
 
+import io
 import json
+import re
+import struct
 import sys
+import zlib
 from pathlib import Path
 
 import matplotlib
@@ -18,6 +22,56 @@ ROOT = Path(__file__).resolve().parents[2]
 BENCHMARKS = ROOT / "docs" / "benchmarks.md"
 BEGIN = "<!-- lab results: written by docs/lab/report.py -->"
 END = "<!-- end of lab results -->"
+
+# Palette indices stay below "A" (0x41) and palette channels outside the ASCII letters, and the
+# image data is stored uncompressed: compressed bytes spell random words, and a tracked file must
+# not spell names the project may not use.
+MAX_COLOURS = 64
+LETTERS = range(0x41, 0x7B)
+# The format's own words, which the check below sees past.
+PNG_WORDS = (b"PNG", b"IHDR", b"PLTE", b"IDAT", b"IEND")
+
+
+def letterless(value):
+    return value if value not in LETTERS else (0x40 if value < 0x5E else 0x7B)
+
+
+def chunk(kind, data):
+    return struct.pack(">I", len(data)) + kind + data + struct.pack(">I", zlib.crc32(kind + data))
+
+
+def save_png(fig, path):
+    """Writes fig as a paletted PNG whose bytes hold no run of three ASCII letters."""
+    from PIL import Image
+
+    buffer = io.BytesIO()
+    fig.savefig(buffer, format="png", dpi=100)
+    image = Image.open(buffer).convert("RGB").quantize(MAX_COLOURS)
+    width, height = image.size
+    palette = [letterless(v) for v in image.getpalette()[: 3 * MAX_COLOURS]]
+    pixels = bytearray(image.tobytes())
+    for attempt in range(256):
+        # Nudging one corner pixel changes the checksums, the only bytes left to chance.
+        pixels[0] = attempt % MAX_COLOURS
+        rows = b"".join(
+            b"\0" + bytes(pixels[y * width:(y + 1) * width]) for y in range(height))
+        data = (
+            b"\x89PNG\r\n\x1a\n"
+            + chunk(b"IHDR", struct.pack(">IIBBBBB", width, height, 8, 3, 0, 0, 0))
+            + chunk(b"PLTE", bytes(palette))
+            + chunk(b"IDAT", zlib.compress(rows, 0))
+            + chunk(b"IEND", b""))
+        if not letter_runs(data):
+            path.write_bytes(data)
+            return
+    raise SystemExit(f"could not write {path} without letter runs: {letter_runs(data)}")
+
+
+def letter_runs(data):
+    """Runs of three or more ASCII letters, the format's own words left out."""
+    for word in PNG_WORDS:
+        data = data.replace(word, bytes(len(word)))
+    return set(re.findall(rb"[A-Za-z]{3,}", data))
 
 
 def curve(entry, heap_bytes):
@@ -63,7 +117,7 @@ def plot_curves(summary, path):
     axes[0][0].legend(fontsize="small")
     fig.suptitle(f"{summary['collector']}: per-workload GC cost curves")
     fig.tight_layout()
-    fig.savefig(path, dpi=110)
+    save_png(fig, path)
     plt.close(fig)
 
 
@@ -80,7 +134,7 @@ def plot_pool(summaries, path):
         ax.set_ylabel("pool GC seconds per second")
         ax.set_title(f"{summary['collector']}: same total heap, mean of runs")
     fig.tight_layout()
-    fig.savefig(path, dpi=110)
+    save_png(fig, path)
     plt.close(fig)
 
 
