@@ -49,11 +49,11 @@ case "${1:-}" in
   lab)
     need_packages
     mvn_batch -q -DskipTests -Dspotless.check.skip=true package
-    # The plots need matplotlib; it goes into a virtual environment of its own, kept in the cache.
+    # The driver needs PyYAML and the plots matplotlib; they go into a virtual environment of its own, kept in the cache.
     venv="${HEAPHERD_CACHE:-$HOME/.cache/heapherd}/lab-venv"
-    if [ ! -x "$venv/bin/python" ] || ! "$venv/bin/python" -c "import matplotlib" 2>/dev/null; then
+    if [ ! -x "$venv/bin/python" ] || ! "$venv/bin/python" -c "import matplotlib, yaml" 2>/dev/null; then
       python3 -m venv "$venv"
-      "$venv/bin/pip" install -q matplotlib
+      "$venv/bin/pip" install -q matplotlib pyyaml
     fi
     shift
     "$venv/bin/python" e2e/lab/compare.py "$@"

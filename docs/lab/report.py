@@ -19,6 +19,9 @@ import matplotlib.pyplot as plt  # noqa: E402
 
 MIB = 1 << 20
 ROOT = Path(__file__).resolve().parents[2]
+# One curve function for the driver and the plots: the plan's model as docs/model.md states it.
+sys.path.insert(0, str(ROOT / "e2e" / "lab"))
+from compare import curve  # noqa: E402
 BENCHMARKS = ROOT / "docs" / "benchmarks.md"
 BEGIN = "<!-- lab results: written by docs/lab/report.py -->"
 END = "<!-- end of lab results -->"
@@ -74,19 +77,6 @@ def letter_runs(data):
     return set(re.findall(rb"[A-Za-z]{3,}", data))
 
 
-def curve(entry, heap_bytes):
-    """GC seconds per second of one pod at heap_bytes, from a plan entry's curve."""
-    young = entry["young"]
-    old_headroom = entry["oldShare"]["value"] * heap_bytes - entry["liveBytes"] - entry["offsetBytes"]
-    if old_headroom <= 0:
-        return float("nan")
-    return (
-        entry["heapIndependentGcSecondsPerSecond"]
-        + young["constant"] / (young["share"]["value"] * heap_bytes)
-        + entry["gcConstant"] / old_headroom
-    )
-
-
 def measured_points(summary, app):
     points = []
     for runs in summary["runs"].values():
@@ -110,6 +100,9 @@ def plot_curves(summary, path):
                    edgecolors="black", label="measured")
         ax.axvline(entry["currentHeapBytes"] / MIB, linestyle=":", color="grey", label="today")
         ax.axvline(entry["heapBytes"] / MIB, linestyle="--", color="black", label="proposal")
+        step = summary["splitsMib"].get("first step", {}).get(entry["name"])
+        if step is not None:
+            ax.axvline(step, linestyle="-.", color="grey", label="first step")
         ax.set_title(entry["name"])
         ax.set_xlabel("heap (MiB)")
         ax.set_ylim(bottom=0)
@@ -154,9 +147,12 @@ def section(summaries):
     out = [BEGIN, "", "## The lab: real applications under G1 and Parallel", ""]
     out.append(
         "`./dev.sh lab` runs five real open-source libraries as paced services (e2e/lab), measures "
-        "them with the real Prometheus, plans them, and runs the fleet again at the same total heap "
-        "under each split, every split twice in alternating order. Figures from the project's "
-        "2-core build machine; they vary with its load."
+        "them with the real Prometheus and plans them (the first step). It rolls the first step "
+        "out, measures again and plans with today's points as history, as the operator does after "
+        "a rollout (the proposal; its curves are the ones plotted). Then it runs the fleet again at "
+        "the same total heap under each split, every split twice in alternating order. The pool "
+        "uses the product's default headroom floor (25 %) and step limit (50 %). Figures from the "
+        "project's 2-core build machine; they vary with its load."
     )
     for s in summaries:
         c = s["collector"]
@@ -169,6 +165,11 @@ def section(summaries):
             f"prediction within 20 % of measurement: "
             f"{'yes' if s['predictionWithinTolerance'] else 'no'}."
         )
+        if "firstStepPredictedChange" in s:
+            out.append(
+                f"The first step, planned from today's heaps alone: predicted "
+                f"{s['firstStepPredictedChange']:+.1%}, measured {s['firstStepMeasuredChange']:+.1%}."
+            )
         out += ["", f"![{c} curves](lab/{c}-curves.png)", ""]
     out += ["![pool GC time per split](lab/pool.png)", "", END]
     return "\n".join(out)

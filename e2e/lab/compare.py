@@ -2,10 +2,12 @@
 """Runs the benchmark lab: measure the fleet, plan it, and compare splits of the same memory.
 
 For each collector: run the lab's real applications at today's heaps, measure them with the real
-Prometheus and `heapherd snapshot`, plan with `heapherd plan`, then run the fleet again at the same
-total heap under the linear rule, an equal split, the proposal and a small grid of other splits,
-each twice in alternating order, and compare the pool's measured GC time. Writes results as JSON
-and the plots and tables of docs/benchmarks.md.
+Prometheus and `heapherd snapshot`, plan with `heapherd plan` (the first step). Roll the first step
+out: run the fleet at its heaps, measure again and plan from there with today's points as history,
+as the operator does after a rollout (the proposal). Then run the fleet again at the same total
+heap under the linear rule, an equal split, both steps and a small grid of splits around the
+proposal, each twice in alternating order, and compare the pool's measured GC time. Writes
+results as JSON and the plots and tables of docs/benchmarks.md.
 """
 
 import argparse
@@ -13,12 +15,17 @@ import json
 import os
 import subprocess
 import sys
+import shutil
 import time
 from pathlib import Path
 
+import yaml
+
 ROOT = Path(__file__).resolve().parents[2]
 LAB_JAR = ROOT / "e2e" / "lab" / "target" / "heapherd-lab.jar"
-HEAPHERD_JAR = ROOT / "operator" / "target" / "heapherd.jar"
+BUILT_HEAPHERD_JAR = ROOT / "operator" / "target" / "heapherd.jar"
+# The jar the lab runs: a copy made at start, so a rebuild during a long run changes nothing.
+HEAPHERD_JAR = BUILT_HEAPHERD_JAR
 MIB = 1 << 20
 
 # Today's heaps: what a team sizing by habit might give each service (about two and a half times
@@ -91,7 +98,54 @@ def heapherd(*arguments):
     ).stdout
 
 
+def curve(entry, heap_bytes):
+    """GC seconds per second of one pod at heap_bytes, from a plan entry's curve (docs/model.md)."""
+    young = entry["young"]
+    old_headroom = entry["oldShare"]["value"] * heap_bytes - entry["liveBytes"] - entry["offsetBytes"]
+    if old_headroom <= 0:
+        return float("nan")
+    return (
+        entry["heapIndependentGcSecondsPerSecond"]
+        + young["constant"] / (young["share"]["value"] * heap_bytes)
+        + entry["gcConstant"] / old_headroom
+    )
+
+
+def predicted_pool(plan, heaps_mib):
+    """The plan's curves summed over the pool at heaps_mib: GC seconds per second."""
+    return sum(e["replicas"] * e["weight"] * curve(e, heaps_mib[e["name"]] * MIB)
+               for e in plan["workloads"])
+
+
+def snapshot_points(path):
+    """Each workload's measured point in a snapshot file, as a `history` entry."""
+    points = {}
+    for w in yaml.safe_load(path.read_text())["workloads"]:
+        young = w["youngGcSecondsPerSecond"]
+        points[w["name"]] = {
+            "heapBytes": w["heapMaxBytes"],
+            "liveBytes": w["liveBytes"],
+            "youngGcSecondsPerSecond": young,
+            "oldGcSecondsPerSecond": max(0.0, w["gcSecondsPerSecond"] - young),
+        }
+    return points
+
+
+def with_history(snapshot_path, earlier_path, out_path):
+    """The snapshot with the earlier snapshot's points (and history) as each workload's history."""
+    doc = yaml.safe_load(snapshot_path.read_text())
+    earlier = yaml.safe_load(earlier_path.read_text())
+    earlier_history = {w["name"]: w.get("history", []) for w in earlier["workloads"]}
+    earlier_points = snapshot_points(earlier_path)
+    for w in doc["workloads"]:
+        if w["name"] in earlier_points:
+            w["history"] = earlier_history[w["name"]] + [earlier_points[w["name"]]]
+    out_path.write_text(yaml.safe_dump(doc, sort_keys=False))
+
+
 def write_pool(path, budget_bytes):
+    # The product's defaults for headroom and step (docs/heappool.md); no limit margin, so the
+    # budget is heap plus measured non-heap.
     path.write_text(
         f"""# The lab's pool: five services of one fictional team, one heap budget.
 apiVersion: heapherd.dev/v1alpha1
@@ -107,8 +161,6 @@ spec:
       heapherd.dev/pool: lab
   defaults:
     heapFloor: 64Mi
-    minHeadroomPercent: 10
-    maxStepPercent: 400
     limitMargin: 0Mi
 """
     )
@@ -132,40 +184,57 @@ def grid_splits(proposal_mib, floor_mib):
 
 def lab(collector, args, work):
     work.mkdir(parents=True, exist_ok=True)
-    snapshot_file = work / "snapshot.yaml"
+    today_snapshot = work / "snapshot.yaml"
+    step_snapshot = work / "snapshot-first-step.yaml"
+    learned_snapshot = work / "snapshot-learned.yaml"
     pool_file = work / "pool.yaml"
 
-    def take_snapshot(url):
-        log(f"{collector}: snapshot from {url}")
-        text = heapherd(
-            "snapshot", "--prometheus", url, "--pool", str(ROOT / "e2e" / "lab" / "pool.yaml"),
-            "--window-seconds", str(args.measure_seconds), "-o", str(snapshot_file))
-        sys.stderr.write(text)
+    def snapshot_to(path):
+        def take(url):
+            log(f"{collector}: snapshot from {url} to {path.name}")
+            text = heapherd(
+                "snapshot", "--prometheus", url, "--pool", str(ROOT / "e2e" / "lab" / "pool.yaml"),
+                "--window-seconds", str(args.measure_seconds), "-o", str(path))
+            sys.stderr.write(text)
+        return take
+
+    def plan_json(snapshot):
+        return json.loads(heapherd(
+            "plan", "--pool", str(pool_file), "--snapshot", str(snapshot), "-o", "json"))
 
     log(f"{collector}: today's heaps {TODAY_MIB}")
-    today = run_fleet(collector, TODAY_MIB, args, work / "today.json", take_snapshot)
-    snapshot = snapshot_file.read_text()
+    today = run_fleet(collector, TODAY_MIB, args, work / "today.json", snapshot_to(today_snapshot))
     # The budget is what today's heaps use with their measured non-heap memory: equal memory.
     plan_probe = json.loads(heapherd(
         "plan", "--pool", str(ROOT / "e2e" / "lab" / "pool.yaml"), "--snapshot",
-        str(snapshot_file), "-o", "json"))
+        str(today_snapshot), "-o", "json"))
     budget = sum(
         w["replicas"] * (w["currentHeapBytes"] + -(-w["nonHeapBytes"] // MIB) * MIB)
         for w in plan_probe["workloads"])
     write_pool(pool_file, budget)
-    plan = json.loads(heapherd(
-        "plan", "--pool", str(pool_file), "--snapshot", str(snapshot_file), "-o", "json"))
+    first = plan_json(today_snapshot)
+    (work / "plan-first-step.json").write_text(json.dumps(first, indent=2))
+    sys.stderr.write(heapherd("plan", "--pool", str(pool_file), "--snapshot", str(today_snapshot)))
+    first_entries = {w["name"]: w for w in first["workloads"]}
+    first_step = {a: first_entries[a]["heapBytes"] / MIB for a in first_entries}
+
+    # The rollout of the first step: measured at its heaps, planned again with today's points.
+    log(f"{collector}: first step rolled out: {heaps_arg(first_step)}")
+    run_fleet(collector, first_step, args, work / "first-step.json", snapshot_to(step_snapshot))
+    with_history(step_snapshot, today_snapshot, learned_snapshot)
+    plan = plan_json(learned_snapshot)
     (work / "plan.json").write_text(json.dumps(plan, indent=2))
-    sys.stderr.write(heapherd("plan", "--pool", str(pool_file), "--snapshot", str(snapshot_file)))
+    sys.stderr.write(heapherd("plan", "--pool", str(pool_file), "--snapshot", str(learned_snapshot)))
     entries = {w["name"]: w for w in plan["workloads"]}
     proposal = {a: entries[a]["heapBytes"] / MIB for a in entries}
-    linear = {a: entries[a]["comparison"]["linearRuleHeapBytes"] / MIB for a in entries}
-    equal = {a: entries[a]["comparison"]["equalSplitHeapBytes"] / MIB for a in entries}
+    linear = {a: first_entries[a]["comparison"]["linearRuleHeapBytes"] / MIB for a in entries}
+    equal = {a: first_entries[a]["comparison"]["equalSplitHeapBytes"] / MIB for a in entries}
     floor = {a: entries[a]["lowHeapBytes"] / MIB for a in entries}
     splits = [
         ("today", dict(TODAY_MIB)),
         ("linear rule", linear),
         ("equal split", equal),
+        ("first step", first_step),
         ("proposal", proposal),
     ]
     splits += grid_splits(proposal, floor)
@@ -181,8 +250,10 @@ def lab(collector, args, work):
 
     measured = {name: sum(pool_gc(r) for r in rs) / len(rs) for name, rs in runs.items()}
     grid_best = min(measured.values())
-    predicted_change = (
-        plan["predictedGcSecondsPerHour"]["proposed"] / plan["predictedGcSecondsPerHour"]["current"]
+    # Both from the learned curves, so the predicted change is the proposal's own claim.
+    predicted_change = predicted_pool(plan, proposal) / predicted_pool(plan, TODAY_MIB) - 1
+    first_predicted_change = (
+        first["predictedGcSecondsPerHour"]["proposed"] / first["predictedGcSecondsPerHour"]["current"]
         - 1)
     measured_change = measured["proposal"] / measured["today"] - 1
     summary = {
@@ -194,11 +265,14 @@ def lab(collector, args, work):
         "splitsMib": {name: heaps for name, heaps in splits},
         "predictedChange": predicted_change,
         "measuredChange": measured_change,
+        "firstStepPredictedChange": first_predicted_change,
+        "firstStepMeasuredChange": measured["first step"] / measured["today"] - 1,
         "proposalAtOrBelowBetterRule": measured["proposal"]
         <= min(measured["linear rule"], measured["equal split"]),
         "proposalWithinGridTolerance": measured["proposal"] <= grid_best * (1 + GRID_TOLERANCE),
         "predictionWithinTolerance": abs(predicted_change - measured_change)
         <= PREDICTION_TOLERANCE * abs(measured_change),
+        "firstStepPlan": first,
         "plan": plan,
         "today": today,
         "runs": runs,
@@ -217,6 +291,10 @@ def main():
     parser.add_argument("--work", default=str(ROOT / "e2e" / "lab" / "target" / "lab-runs"))
     parser.add_argument("--results", default=str(ROOT / "docs" / "lab"))
     args = parser.parse_args()
+    global HEAPHERD_JAR
+    Path(args.work).mkdir(parents=True, exist_ok=True)
+    HEAPHERD_JAR = Path(args.work) / "heapherd.jar"
+    shutil.copyfile(BUILT_HEAPHERD_JAR, HEAPHERD_JAR)
     results = Path(args.results)
     results.mkdir(parents=True, exist_ok=True)
     for collector in args.collectors.split(","):

@@ -11,7 +11,12 @@ public enum Bound {
   /** The limit on change per step relative to the current heap. */
   STEP("step"),
   /** Kept at today's heap: no GC time was measured, so nothing predicts what a change would do. */
-  KEPT("kept-unpredictable");
+  KEPT("kept-unpredictable"),
+  /**
+   * Shrunk no further in this step: no old-generation collection was measured, so at most {@link
+   * HeapBounds#UNMEASURED_OLD_HEADROOM_GIVEN_UP} of today's old headroom is given up.
+   */
+  OLD_UNMEASURED("old-unmeasured");
 
   private final String label;
 

@@ -17,10 +17,20 @@ public record HeapBounds(long lowBytes, Bound lowBound, long highBytes, Bound hi
   static final long MIN_USABLE_HEADROOM_BYTES = Units.MIB;
 
   /**
+   * Share of today's old-generation headroom a heap may give up in one step when no old collection
+   * was measured. With no old collection in the window the old term's constant is unknown, not
+   * zero: below some headroom the collector thrashes, and one point cannot say where. Halving the
+   * headroom at most doubles an old-collection rate too low to show in the window; the next window,
+   * at the new heap, measures it. Our choice.
+   */
+  public static final double UNMEASURED_OLD_HEADROOM_GIVEN_UP = 0.5;
+
+  /**
    * Resolves a workload's rules against its live bytes and current heap. The floors apply to the
    * old generation, which holds live objects: under Serial and Parallel it is only part of the
    * heap. A workload whose curve is flat keeps today's heap: nothing predicts what a change would
-   * do.
+   * do. One whose old term is zero (no old collection measured, so common under G1 on JDK 17) keeps
+   * half of today's old headroom in this step.
    */
   public static HeapBounds of(Workload w) {
     HeapRules rules = w.rules();
@@ -37,10 +47,20 @@ public record HeapBounds(long lowBytes, Bound lowBound, long highBytes, Bound hi
       return new HeapBounds(kept, Bound.KEPT, kept, Bound.KEPT);
     }
     double stepFloor = w.currentHeapBytes() * (1 - Math.min(1, rules.maxStepFraction()));
+    Bound stepBound = Bound.STEP;
+    if (gc.constantBytes() == 0) {
+      double oldHeadroom = Math.max(0, oldShare * w.currentHeapBytes() - w.liveBytes());
+      double unmeasuredFloor =
+          (w.liveBytes() + (1 - UNMEASURED_OLD_HEADROOM_GIVEN_UP) * oldHeadroom) / oldShare;
+      if (unmeasuredFloor > stepFloor) {
+        stepFloor = unmeasuredFloor;
+        stepBound = Bound.OLD_UNMEASURED;
+      }
+    }
     double stepCeiling = w.currentHeapBytes() * (1 + rules.maxStepFraction());
 
     long low = roundUp(Math.max(safeFloor, stepFloor));
-    Bound lowBound = stepFloor > safeFloor ? Bound.STEP : Bound.FLOOR;
+    Bound lowBound = stepFloor > safeFloor ? stepBound : Bound.FLOOR;
     double ceiling =
         Math.min(Math.min((double) rules.maxHeapBytes(), Units.MAX_HEAP_BYTES), stepCeiling);
     long high = Units.roundDownToMib(ceiling);

@@ -131,6 +131,27 @@ class AllocatorTest {
   }
 
   @Test
+  void aWorkloadWithNoMeasuredOldCollectionKeepsHalfItsOldHeadroom() {
+    // Young collections only, as G1 on JDK 17 reports its mixed ones: the old term's constant is
+    // unknown, so the heap may give up at most half of today's headroom over live bytes.
+    GcModel youngOnly =
+        new GcModel(
+            0,
+            0,
+            0,
+            0.001 * 300 * MIB,
+            new Generations(0.3, true, 1, true),
+            GcConstantEstimator.YOUNG_ONLY);
+    Workload quiet =
+        new Workload("quiet", 1, 200 * MIB, 200 * MIB, 1000 * MIB, 0, 1, youngOnly, OPEN);
+    Workload busy = workload("busy", 1, 1000, 1500, 0.05, OPEN);
+    PoolPlan plan = Allocator.plan(List.of(quiet, busy), new Objective.Budget(2500 * MIB));
+    // Headroom today 800 MiB; half of it kept: 200 + 400 = 600 MiB.
+    assertThat(plan.workloads().get(0).heapBytes()).isEqualTo(600 * MIB);
+    assertThat(plan.workloads().get(0).bound()).isEqualTo(Bound.OLD_UNMEASURED);
+  }
+
+  @Test
   void rejectsDuplicateNamesAndEmptyPools() {
     Workload w = workload("w", 1, 100, 200, 0.01, OPEN);
     assertThatThrownBy(() -> Allocator.plan(List.of(w, w), new Objective.Budget(GIB)))

@@ -1,5 +1,6 @@
 package dev.heapherd.lab;
 
+import java.io.File;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
@@ -69,7 +70,8 @@ final class ChildService implements AutoCloseable {
     command.add("-Xms" + heapBytes);
     command.add("-Xmx" + heapBytes);
     command.add("-cp");
-    command.add(System.getProperty("java.class.path"));
+    // Absolute: the child runs in the work folder, where a relative class path finds nothing.
+    command.add(absoluteClassPath());
     command.add(LabMain.class.getName());
     command.add("serve");
     command.add("--app=" + app.label());
@@ -165,5 +167,16 @@ final class ChildService implements AutoCloseable {
     if (!process.waitFor(STOP_TIMEOUT_SECONDS, TimeUnit.SECONDS)) {
       process.destroyForcibly().waitFor();
     }
+  }
+
+  private static String absoluteClassPath() {
+    StringBuilder out = new StringBuilder();
+    for (String entry : System.getProperty("java.class.path").split(File.pathSeparator)) {
+      if (out.length() > 0) {
+        out.append(File.pathSeparator);
+      }
+      out.append(Path.of(entry).toAbsolutePath());
+    }
+    return out.toString();
   }
 }
