@@ -278,13 +278,8 @@ final class Field {
     } else if (node.isNumber()) {
       throw error(tooLarge());
     } else if (node.isTextual()) {
-      if (node.asText().trim().endsWith("m")) {
-        // Kubernetes reads "m" as milli, so "512m" would be half a byte, not 512 MiB as in -Xmx.
-        throw error(
-            "\"" + node.asText() + "\" means thousandths of a byte; write Mi for mebibytes");
-      }
       try {
-        bytes = Quantity.parseBytes(node.asText());
+        bytes = Quantity.parseMemoryBytes(node.asText());
       } catch (IllegalArgumentException e) {
         throw error(e.getMessage());
       }

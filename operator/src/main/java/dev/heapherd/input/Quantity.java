@@ -67,6 +67,28 @@ public final class Quantity {
   }
 
   /**
+   * Parses a memory size that must be whole bytes, as heap and container sizes are: like {@link
+   * #parseBytes}, but a quantity below one byte per unit (Kubernetes reads {@code 512m} as 0.512
+   * bytes, not 512 MiB as {@code -Xmx} does) or any fraction of a byte is refused.
+   *
+   * @throws IllegalArgumentException with the reason, naming the text
+   */
+  public static long parseMemoryBytes(String text) {
+    long bytes = parseBytes(text);
+    Matcher matcher = QUANTITY.matcher(text.strip());
+    if (matcher.matches()) {
+      BigDecimal exact = applySuffix(new BigDecimal(matcher.group(2)), matcher.group(3), text);
+      if (exact.stripTrailingZeros().scale() > 0) {
+        throw new IllegalArgumentException(
+            matcher.group(3).equals("m")
+                ? quote(text) + " means thousandths of a byte; write Mi for mebibytes"
+                : quote(text) + " is not a whole number of bytes");
+      }
+    }
+    return bytes;
+  }
+
+  /**
    * Formats bytes for tables: {@code 2Gi} or {@code 1.50Gi} from one GiB up, otherwise {@code
    * 512Mi} or {@code 0.5Mi}; zero is {@code 0}.
    */

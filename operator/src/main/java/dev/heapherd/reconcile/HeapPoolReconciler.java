@@ -324,6 +324,8 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
                 + " takes "
                 + r.jvmOptionsVariable()
                 + " from a reference (ConfigMap, Secret or field); heapherd writes only literal values");
+      } else {
+        m.get().problem().ifPresent(p -> problems.add(w.kind() + " " + w.name() + ": " + p));
       }
     }
     Set<String> names = workloads.stream().map(PoolWorkload::name).collect(Collectors.toSet());

@@ -44,6 +44,11 @@ public final class Observer {
     PodTemplates.MemorySettings m =
         PodTemplates.read(w.template(), rollout.containerName(), rollout.jvmOptionsVariable())
             .orElseThrow(() -> new IllegalArgumentException("no container in " + w.name()));
+    m.problem()
+        .ifPresent(
+            p -> {
+              throw new IllegalArgumentException(p);
+            });
     long containerLimit = m.limitBytes().orElse(0);
     Optional<RolloutRecord> inFlight =
         RolloutRecord.fromJson(w.annotations().get(Annotations.ROLLOUT));

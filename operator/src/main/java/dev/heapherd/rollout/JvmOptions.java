@@ -4,6 +4,7 @@ import java.util.ArrayList;
 import java.util.List;
 import java.util.Locale;
 import java.util.Objects;
+import java.util.Optional;
 import java.util.OptionalLong;
 import java.util.regex.Matcher;
 import java.util.regex.Pattern;
@@ -46,7 +47,8 @@ public final class JvmOptions {
    * @param options the JVM options value, may be null or blank
    * @param maxHeapBytes the new maximum heap, positive
    * @param initialHeapBytes the new initial heap, positive and at most {@code maxHeapBytes}
-   * @throws IllegalArgumentException if a heap size is out of range
+   * @throws IllegalArgumentException if a heap size is out of range or the JVM would refuse the
+   *     options (an unmatched quote)
    */
   public static String withHeap(String options, long maxHeapBytes, OptionalLong initialHeapBytes) {
     Objects.requireNonNull(initialHeapBytes, "initialHeapBytes");
@@ -65,19 +67,21 @@ public final class JvmOptions {
     }
     List<String> result = new ArrayList<>();
     int insertAt = -1;
-    for (String token : tokenize(options)) {
+    for (Token token : tokenize(options)) {
+      String flag = token.value();
       boolean replaced =
-          startsWithAny(token, MAX_HEAP_SIZE_FLAGS)
-              || startsWithAny(token, MAX_HEAP_RAM_FLAGS)
+          startsWithAny(flag, MAX_HEAP_SIZE_FLAGS)
+              || startsWithAny(flag, MAX_HEAP_RAM_FLAGS)
               || (initialHeapBytes.isPresent()
-                  && (startsWithAny(token, INITIAL_HEAP_SIZE_FLAGS)
-                      || startsWithAny(token, INITIAL_HEAP_RAM_FLAGS)));
+                  && (startsWithAny(flag, INITIAL_HEAP_SIZE_FLAGS)
+                      || startsWithAny(flag, INITIAL_HEAP_RAM_FLAGS)));
       if (replaced) {
         if (insertAt < 0) {
           insertAt = result.size();
         }
       } else {
-        result.add(initialHeapBytes.isPresent() ? token : capInitialHeap(token, maxHeapBytes));
+        result.add(
+            initialHeapBytes.isPresent() ? token.raw() : capInitialHeap(token, maxHeapBytes));
       }
     }
     List<String> heapFlags = new ArrayList<>();
@@ -89,14 +93,18 @@ public final class JvmOptions {
 
   /**
    * Returns the maximum heap set by {@code -Xmx} or {@code -XX:MaxHeapSize}, the last one winning
-   * as in the JVM; empty if there is none or the last one is not a valid size.
+   * as in the JVM; empty if there is none, the last one is not a valid size, or the JVM would
+   * refuse the options (see {@link #problem}).
    */
   public static OptionalLong maxHeapBytes(String options) {
+    if (problem(options).isPresent()) {
+      return OptionalLong.empty();
+    }
     OptionalLong last = OptionalLong.empty();
-    for (String token : tokenize(options)) {
+    for (Token token : tokenize(options)) {
       for (String flag : MAX_HEAP_SIZE_FLAGS) {
-        if (token.startsWith(flag)) {
-          last = parseSize(token.substring(flag.length()));
+        if (token.value().startsWith(flag)) {
+          last = parseSize(token.value().substring(flag.length()));
         }
       }
     }
@@ -105,51 +113,81 @@ public final class JvmOptions {
 
   // HotSpot exits at start-up with "Initial heap size set to a larger value than the maximum
   // heap size" when -Xms / InitialHeapSize exceeds the max heap, so such a token is lowered.
-  private static String capInitialHeap(String token, long maxHeapBytes) {
+  private static String capInitialHeap(Token token, long maxHeapBytes) {
     for (String flag : INITIAL_HEAP_SIZE_FLAGS) {
-      if (token.startsWith(flag)) {
-        OptionalLong size = parseSize(token.substring(flag.length()));
+      if (token.value().startsWith(flag)) {
+        OptionalLong size = parseSize(token.value().substring(flag.length()));
         if (size.isPresent() && size.getAsLong() > maxHeapBytes) {
           return flag + formatSize(maxHeapBytes);
         }
       }
     }
-    return token;
+    return token.raw();
   }
 
-  // Splits on whitespace; a single- or double-quoted run keeps its whitespace and its quotes,
-  // so the token is passed through exactly as written. An unclosed quote runs to the end.
-  private static List<String> tokenize(String options) {
-    List<String> tokens = new ArrayList<>();
+  /**
+   * Why the JVM would refuse {@code options} at start-up, or empty. HotSpot refuses an unmatched
+   * quote in JAVA_TOOL_OPTIONS ("Unmatched quote in JAVA_TOOL_OPTIONS", checked against the real
+   * JVM in JvmOptionsJvmIT).
+   */
+  public static Optional<String> problem(String options) {
+    try {
+      tokenize(options);
+      return Optional.empty();
+    } catch (IllegalArgumentException e) {
+      return Optional.of(e.getMessage());
+    }
+  }
+
+  // Splits as HotSpot splits an options variable: on whitespace, where a single- or double-quoted
+  // run belongs to the token around it and its quotes are dropped, so '"-Xmx8g"' is the flag
+  // -Xmx8g. The raw text is kept so that other tokens are written back exactly as they were.
+  private static List<Token> tokenize(String options) {
+    List<Token> tokens = new ArrayList<>();
     if (options == null) {
       return tokens;
     }
-    StringBuilder token = new StringBuilder();
+    StringBuilder raw = new StringBuilder();
+    StringBuilder value = new StringBuilder();
     char quote = NO_QUOTE;
     for (int i = 0; i < options.length(); i++) {
       char c = options.charAt(i);
       if (quote != NO_QUOTE) {
-        token.append(c);
+        raw.append(c);
         if (c == quote) {
           quote = NO_QUOTE;
+        } else {
+          value.append(c);
         }
       } else if (Character.isWhitespace(c)) {
-        if (token.length() > 0) {
-          tokens.add(token.toString());
-          token.setLength(0);
+        if (raw.length() > 0) {
+          tokens.add(new Token(raw.toString(), value.toString()));
+          raw.setLength(0);
+          value.setLength(0);
         }
       } else {
-        token.append(c);
+        raw.append(c);
         if (c == '"' || c == '\'') {
           quote = c;
+        } else {
+          value.append(c);
         }
       }
     }
-    if (token.length() > 0) {
-      tokens.add(token.toString());
+    if (quote != NO_QUOTE) {
+      throw new IllegalArgumentException(
+          "the JVM options have an unmatched "
+              + (quote == '"' ? "double" : "single")
+              + " quote, so the JVM would refuse to start; close it");
+    }
+    if (raw.length() > 0) {
+      tokens.add(new Token(raw.toString(), value.toString()));
     }
     return tokens;
   }
+
+  /** One option as written ({@code raw}) and as the JVM reads it ({@code value}). */
+  private record Token(String raw, String value) {}
 
   private static boolean startsWithAny(String token, List<String> flags) {
     for (String flag : flags) {

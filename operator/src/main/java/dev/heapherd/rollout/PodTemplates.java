@@ -38,7 +38,26 @@ public final class PodTemplates {
 
     /** The limit in bytes, if set. */
     public OptionalLong limitBytes() {
-      return limit == null ? OptionalLong.empty() : OptionalLong.of(Quantity.parseBytes(limit));
+      return limit == null
+          ? OptionalLong.empty()
+          : OptionalLong.of(Quantity.parseMemoryBytes(limit));
+    }
+
+    /**
+     * Why heapherd cannot resize this container safely, or empty: a memory size that is not whole
+     * bytes, or JVM options the JVM would refuse.
+     */
+    public Optional<String> problem() {
+      for (String size : new String[] {limit, request}) {
+        if (size != null) {
+          try {
+            Quantity.parseMemoryBytes(size);
+          } catch (IllegalArgumentException e) {
+            return Optional.of("memory size " + e.getMessage());
+          }
+        }
+      }
+      return jvmOptions == null ? Optional.empty() : JvmOptions.problem(jvmOptions);
     }
 
     /** The -Xmx the options carry, if any. */

@@ -182,7 +182,7 @@ class RenderCommandTest {
               containers:
               - name: app
                 env:
-                - {name: JAVA_TOOL_OPTIONS, value: '-XX:+UseG1GC -Xmx1g -Dnote=it''s'}
+                - {name: JAVA_TOOL_OPTIONS, value: '-XX:+UseG1GC -Xmx1g -Dnote=''it is'''}
                 resources: {limits: {memory: 1344Mi}, requests: {memory: "1344Mi"}}
         ...
         ---\s

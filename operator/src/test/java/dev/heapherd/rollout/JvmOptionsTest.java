@@ -80,9 +80,34 @@ class JvmOptionsTest {
   }
 
   @Test
-  void unclosedQuoteRunsToTheEnd() {
-    assertThat(JvmOptions.withHeap("-Dmsg=\"a -Xmx1g", GIB, NO_INITIAL))
-        .isEqualTo("-Dmsg=\"a -Xmx1g -Xmx1g");
+  void refusesAnUnmatchedQuoteAsTheJvmDoes() {
+    // HotSpot exits with "Unmatched quote in JAVA_TOOL_OPTIONS" (checked in JvmOptionsJvmIT).
+    assertThatThrownBy(() -> JvmOptions.withHeap("-Dmsg=\"a -Xmx1g", GIB, NO_INITIAL))
+        .isInstanceOf(IllegalArgumentException.class)
+        .hasMessageContaining("unmatched double quote");
+    assertThat(JvmOptions.problem("-Dmsg='a"))
+        .hasValueSatisfying(p -> assertThat(p).contains("single"));
+    assertThat(JvmOptions.maxHeapBytes("-Xmx1g \"")).isEmpty();
+    assertThat(JvmOptions.problem("-Dmsg='a b' -Xmx1g")).isEmpty();
+  }
+
+  @ParameterizedTest
+  @ValueSource(
+      strings = {
+        "-Xmx2g \"-Xmx8g\"",
+        "-Xmx2g '-Xmx8g'",
+        "-Xmx2g -X\"mx8g\"",
+        "-Xmx2g \"-XX:MaxHeapSize=8g\"",
+        "'-XX:MaxRAMPercentage=90' -Xmx2g"
+      })
+  void replacesQuotedHeapFlagsBecauseTheJvmReadsThemUnquoted(String options) {
+    // The JVM drops the quotes and honours the flag, so it is a heap flag like any other.
+    assertThat(JvmOptions.withHeap(options, 3 * GIB, NO_INITIAL)).isEqualTo("-Xmx3g");
+  }
+
+  @Test
+  void readsAQuotedMaxHeapAsTheJvmDoes() {
+    assertThat(JvmOptions.maxHeapBytes("-Xmx2g \"-Xmx8g\"")).hasValue(8 * GIB);
   }
 
   @Test
@@ -197,7 +222,7 @@ class JvmOptionsTest {
 
   @Test
   void ignoresTokensThatOnlyContainAHeapFlag() {
-    assertThat(JvmOptions.maxHeapBytes("-Dx=-Xmx1g '-Xmx2g'")).isEmpty();
+    assertThat(JvmOptions.maxHeapBytes("-Dx=-Xmx1g \"-Dy=a -Xmx2g\"")).isEmpty();
   }
 
   @ParameterizedTest
