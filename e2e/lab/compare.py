@@ -17,6 +17,7 @@ import subprocess
 import sys
 import shutil
 import time
+from datetime import timezone
 from pathlib import Path
 
 import yaml
@@ -140,6 +141,10 @@ def with_history(snapshot_path, earlier_path, out_path):
     for w in doc["workloads"]:
         if w["name"] in earlier_points:
             w["history"] = earlier_history[w["name"]] + [earlier_points[w["name"]]]
+    # PyYAML reads the timestamp as a datetime; the snapshot format wants RFC 3339 in UTC.
+    captured = doc.get("capturedAt")
+    if hasattr(captured, "isoformat"):
+        doc["capturedAt"] = captured.astimezone(timezone.utc).isoformat().replace("+00:00", "Z")
     out_path.write_text(yaml.safe_dump(doc, sort_keys=False))
 
 

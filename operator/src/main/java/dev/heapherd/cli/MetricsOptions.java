@@ -2,6 +2,7 @@ package dev.heapherd.cli;
 
 import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
+import dev.heapherd.input.PoolFileReader;
 import dev.heapherd.input.Snapshot;
 import dev.heapherd.metrics.MetricsException;
 import dev.heapherd.metrics.PoolMetrics;
@@ -77,6 +78,19 @@ final class MetricsOptions {
                             + profileName
                             + "\" (use micrometer, client-java or otel)"));
     long window = windowSeconds != null ? windowSeconds : pool.metrics().windowSeconds();
+    if (window < PoolFileReader.MIN_WINDOW_SECONDS || window > PoolFileReader.MAX_WINDOW_SECONDS) {
+      // The same range the pool file's spec.metrics.windowSeconds has, so snapshot never writes
+      // what plan would refuse.
+      throw new InputException(
+          "--window-seconds",
+          "",
+          "must be between "
+              + PoolFileReader.MIN_WINDOW_SECONDS
+              + " and "
+              + PoolFileReader.MAX_WINDOW_SECONDS
+              + ", got "
+              + window);
+    }
     PrometheusClient client;
     try {
       client = PrometheusClient.connect(endpoint());
@@ -97,7 +111,16 @@ final class MetricsOptions {
         throw new InputException(bearerTokenFile.toString(), "", "cannot read: " + e.getMessage());
       }
     }
-    return new PrometheusEndpoint(
-        prometheus, token, Optional.ofNullable(caFile), Duration.ofSeconds(timeoutSeconds));
+    try {
+      return new PrometheusEndpoint(
+          prometheus, token, Optional.ofNullable(caFile), Duration.ofSeconds(timeoutSeconds));
+    } catch (IllegalArgumentException e) {
+      throw new InputException(
+          e.getMessage().contains("timeout")
+              ? "--timeout-seconds"
+              : e.getMessage().contains("token") ? "--bearer-token-file" : "--prometheus",
+          "",
+          e.getMessage());
+    }
   }
 }

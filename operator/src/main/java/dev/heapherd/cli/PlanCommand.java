@@ -9,6 +9,7 @@ import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.PoolFileReader;
 import dev.heapherd.input.Snapshot;
 import dev.heapherd.input.SnapshotReader;
+import dev.heapherd.metrics.PrometheusEndpoint;
 import dev.heapherd.plan.PlanDocument;
 import dev.heapherd.plan.PlanTable;
 import dev.heapherd.plan.Planner;
@@ -58,7 +59,8 @@ final class PlanCommand implements Callable<Integer> {
       PoolFile poolFile = PoolFileReader.read(pool);
       Snapshot measured =
           snapshot != null ? SnapshotReader.read(snapshot) : metrics.measure(poolFile);
-      String source = snapshot != null ? snapshot.toString() : metrics.prometheus.toString();
+      String source =
+          snapshot != null ? snapshot.toString() : PrometheusEndpoint.redacted(metrics.prometheus);
       PoolPlan plan = Planner.plan(poolFile, pool.toString(), measured, source);
       doc = PlanDocument.of(poolFile, measured, plan);
     } catch (InputException e) {

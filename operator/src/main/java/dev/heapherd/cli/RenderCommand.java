@@ -5,6 +5,7 @@ import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.PoolFileReader;
 import dev.heapherd.input.Snapshot;
 import dev.heapherd.input.SnapshotReader;
+import dev.heapherd.metrics.PrometheusEndpoint;
 import dev.heapherd.render.ManifestFile;
 import dev.heapherd.render.ManifestFolder;
 import dev.heapherd.render.RenderReport;
@@ -72,7 +73,8 @@ final class RenderCommand implements Callable<Integer> {
       namespace = metrics.namespace != null ? metrics.namespace : poolFile.namespace();
       Snapshot measured =
           snapshot != null ? SnapshotReader.read(snapshot) : metrics.measure(poolFile);
-      String source = snapshot != null ? snapshot.toString() : metrics.prometheus.toString();
+      String source =
+          snapshot != null ? snapshot.toString() : PrometheusEndpoint.redacted(metrics.prometheus);
       outcome =
           Renderer.render(
               poolFile, pool.toString(), measured, source, namespace, manifests.toString(), read);

@@ -5,6 +5,7 @@ import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.PoolFileReader;
 import dev.heapherd.input.Snapshot;
 import dev.heapherd.input.SnapshotWriter;
+import dev.heapherd.metrics.PrometheusEndpoint;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -41,7 +42,7 @@ final class SnapshotCommand implements Callable<Integer> {
       }
       PoolFile poolFile = PoolFileReader.read(pool);
       Snapshot snapshot = metrics.measure(poolFile);
-      String text = SnapshotWriter.write(snapshot, metrics.prometheus.toString());
+      String text = SnapshotWriter.write(snapshot, PrometheusEndpoint.redacted(metrics.prometheus));
       for (Snapshot.Held h : snapshot.held()) {
         spec.commandLine().getErr().println("heapherd: held " + h.name() + ": " + h.reason());
       }

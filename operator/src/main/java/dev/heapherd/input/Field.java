@@ -204,6 +204,15 @@ final class Field {
     return value;
   }
 
+  /** A number between 0 and 1: a share of each second, such as GC seconds per second. */
+  double shareOfTime() throws InputException {
+    double value = nonNegativeNumber();
+    if (value > 1) {
+      throw error("must be at most 1 (all of each second), got " + node.asText());
+    }
+    return value;
+  }
+
   /** A finite number >= 0, given as a number or a decimal string. */
   double nonNegativeNumber() throws InputException {
     double value = number();

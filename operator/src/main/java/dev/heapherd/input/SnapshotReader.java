@@ -116,7 +116,7 @@ public final class SnapshotReader {
       throw f.required("offsetBytes")
           .error("live bytes plus offset leave no headroom under the current heap");
     }
-    double gc = f.required("gcSecondsPerSecond").nonNegativeNumber();
+    double gc = f.required("gcSecondsPerSecond").shareOfTime();
     double young = f.optionalNonNegativeNumber("youngGcSecondsPerSecond").orElse(0);
     if (young > gc) {
       throw f.required("youngGcSecondsPerSecond")

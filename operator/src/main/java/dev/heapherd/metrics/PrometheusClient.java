@@ -26,6 +26,11 @@ import java.util.HashMap;
 import java.util.List;
 import java.util.Locale;
 import java.util.Map;
+import java.util.concurrent.Executors;
+import java.util.concurrent.ScheduledExecutorService;
+import java.util.concurrent.ScheduledFuture;
+import java.util.concurrent.TimeUnit;
+import java.util.concurrent.atomic.AtomicBoolean;
 import javax.net.ssl.SSLContext;
 import javax.net.ssl.TrustManagerFactory;
 
@@ -38,6 +43,27 @@ public final class PrometheusClient {
 
   /** Longest part of an error body quoted in a message. */
   private static final int MAX_QUOTED_CHARS = 200;
+
+  /**
+   * Largest answer read, our choice: one series per pod at about 200 bytes each leaves room for
+   * 100,000 pods, and a bigger body is a wrong query or a wrong server, not data.
+   */
+  static final int MAX_BODY_BYTES = 64 << 20;
+
+  private static final int MIB_SHIFT = 20;
+
+  private static final int REDIRECT_STATUS = 300;
+
+  private static final int CLIENT_ERROR_STATUS = 400;
+
+  /** Cuts off bodies that outlast their deadline; a daemon, so it never keeps a JVM alive. */
+  private static final ScheduledExecutorService DEADLINES =
+      Executors.newSingleThreadScheduledExecutor(
+          r -> {
+            Thread t = new Thread(r, "heapherd-prometheus-deadlines");
+            t.setDaemon(true);
+            return t;
+          });
 
   private final PrometheusEndpoint endpoint;
   private final HttpClient http;
@@ -52,7 +78,8 @@ public final class PrometheusClient {
     HttpClient.Builder builder =
         HttpClient.newBuilder()
             .connectTimeout(endpoint.timeout())
-            .followRedirects(HttpClient.Redirect.NORMAL);
+            // Never: a redirect to another origin would carry the bearer token there.
+            .followRedirects(HttpClient.Redirect.NEVER);
     if (endpoint.caCertificate().isPresent()) {
       builder.sslContext(trusting(endpoint.caCertificate().get()));
     }
@@ -138,37 +165,100 @@ public final class PrometheusClient {
             .header("Accept", "application/json")
             .POST(HttpRequest.BodyPublishers.ofString(form));
     endpoint.bearerToken().ifPresent(token -> request.header("Authorization", "Bearer " + token));
-    HttpResponse<String> response;
+    Instant deadline = Instant.now().plus(endpoint.timeout());
+    HttpResponse<InputStream> response;
     try {
-      response = http.send(request.build(), HttpResponse.BodyHandlers.ofString());
+      response = http.send(request.build(), HttpResponse.BodyHandlers.ofInputStream());
     } catch (HttpTimeoutException e) {
-      throw new MetricsException(
-          MetricsException.Kind.TIMEOUT,
-          "Prometheus at " + endpoint.baseUri() + " did not answer within " + endpoint.timeout());
+      throw timedOut();
     } catch (ConnectException e) {
       throw new MetricsException(
           MetricsException.Kind.UNREACHABLE,
-          "cannot connect to Prometheus at " + endpoint.baseUri() + ": connection refused");
+          "cannot connect to Prometheus at " + endpoint.redactedUri() + ": connection refused");
     } catch (IOException e) {
       throw new MetricsException(
           MetricsException.Kind.UNREACHABLE,
-          "cannot reach Prometheus at " + endpoint.baseUri() + ": " + e);
+          "cannot reach Prometheus at " + endpoint.redactedUri() + ": " + e);
     } catch (InterruptedException e) {
       Thread.currentThread().interrupt();
       throw new MetricsException(MetricsException.Kind.TIMEOUT, "interrupted while querying");
     }
-    return data(response);
+    if (response.statusCode() >= REDIRECT_STATUS && response.statusCode() < CLIENT_ERROR_STATUS) {
+      closeQuietly(response.body());
+      throw new MetricsException(
+          MetricsException.Kind.REJECTED,
+          "Prometheus at "
+              + endpoint.redactedUri()
+              + " answered with a redirect (HTTP "
+              + response.statusCode()
+              + "), which is not followed; pass the URL it leads to as --prometheus");
+    }
+    return data(response.statusCode(), body(response.body(), deadline));
   }
 
-  private Answer data(HttpResponse<String> response) throws MetricsException {
-    int status = response.statusCode();
+  private MetricsException timedOut() {
+    return new MetricsException(
+        MetricsException.Kind.TIMEOUT,
+        "Prometheus at " + endpoint.redactedUri() + " did not answer within " + endpoint.timeout());
+  }
+
+  /**
+   * Reads at most {@link #MAX_BODY_BYTES} of the body before {@code deadline}: the request timeout
+   * covers only the headers, so a server sending one byte a second, or a body without end, is cut
+   * off here.
+   */
+  private String body(InputStream in, Instant deadline) throws MetricsException {
+    AtomicBoolean cutOff = new AtomicBoolean();
+    long remainingMillis = Math.max(1, Duration.between(Instant.now(), deadline).toMillis());
+    ScheduledFuture<?> guard =
+        DEADLINES.schedule(
+            () -> {
+              cutOff.set(true);
+              closeQuietly(in);
+            },
+            remainingMillis,
+            TimeUnit.MILLISECONDS);
+    try (in) {
+      byte[] bytes = in.readNBytes(MAX_BODY_BYTES + 1);
+      if (cutOff.get()) {
+        throw timedOut();
+      }
+      if (bytes.length > MAX_BODY_BYTES) {
+        throw new MetricsException(
+            MetricsException.Kind.BAD_RESPONSE,
+            "Prometheus sent more than "
+                + (MAX_BODY_BYTES >> MIB_SHIFT)
+                + " MiB for one query; narrow the selector or the query");
+      }
+      return new String(bytes, StandardCharsets.UTF_8);
+    } catch (IOException e) {
+      if (cutOff.get()) {
+        throw timedOut();
+      }
+      throw new MetricsException(
+          MetricsException.Kind.UNREACHABLE,
+          "cannot read the answer of Prometheus at " + endpoint.redactedUri() + ": " + e);
+    } finally {
+      guard.cancel(false);
+    }
+  }
+
+  private static void closeQuietly(InputStream in) {
+    try {
+      in.close();
+    } catch (IOException e) {
+      // Closing only ends the exchange early; nothing is left to report.
+    }
+  }
+
+  private Answer data(int status, String text) throws MetricsException {
     JsonNode body;
     try {
-      body = JSON.readTree(response.body());
+      body = JSON.readTree(text);
     } catch (JsonProcessingException e) {
       body = null;
     }
-    String detail = describe(body == null ? "" : body.path("error").asText(""), response.body());
+    String detail = describe(body == null ? "" : body.path("error").asText(""), text);
     if (status >= 500) {
       throw new MetricsException(
           MetricsException.Kind.SERVER_ERROR, "Prometheus failed (HTTP " + status + "): " + detail);
@@ -219,9 +309,13 @@ public final class PrometheusClient {
     }
   }
 
+  // Only Prometheus' own error text is quoted: any other body (a proxy's page) may echo request
+  // headers, the bearer token among them, so it is described by its size alone.
   private static String describe(String apiError, String body) {
-    String text = apiError.isEmpty() ? body : apiError;
-    text = text.replaceAll("\\s+", " ").strip();
+    if (apiError.isEmpty()) {
+      return "a body that is not a Prometheus error (" + body.length() + " characters)";
+    }
+    String text = apiError.replaceAll("[\\s\\p{Cntrl}]+", " ").strip();
     return text.length() > MAX_QUOTED_CHARS ? text.substring(0, MAX_QUOTED_CHARS) + "..." : text;
   }
 

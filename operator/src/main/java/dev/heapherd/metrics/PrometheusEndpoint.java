@@ -19,6 +19,54 @@ public record PrometheusEndpoint(
   /** Default request timeout: long enough for a pool's aggregate queries, short enough to hold. */
   public static final Duration DEFAULT_TIMEOUT = Duration.ofSeconds(30);
 
+  private static final char DELETE = 0x7f;
+
+  /** Longest timeout accepted: a query slower than ten minutes is a Prometheus in trouble. */
+  public static final Duration MAX_TIMEOUT = Duration.ofMinutes(10);
+
+  /** Validates the endpoint, so that a bad flag fails before any request with one clear line. */
+  public PrometheusEndpoint {
+    String scheme = baseUri.getScheme() == null ? "" : baseUri.getScheme().toLowerCase();
+    if (!scheme.equals("http") && !scheme.equals("https")) {
+      throw new IllegalArgumentException(
+          "the Prometheus URL must start with http:// or https://, got \""
+              + redacted(baseUri)
+              + "\"");
+    }
+    if (baseUri.getHost() == null || baseUri.getHost().isEmpty()) {
+      throw new IllegalArgumentException(
+          "the Prometheus URL has no host: \"" + redacted(baseUri) + "\"");
+    }
+    if (bearerToken.isPresent()
+        && (bearerToken.get().isEmpty()
+            || bearerToken.get().chars().anyMatch(c -> c < ' ' || c == DELETE))) {
+      // Never echoed: the text is a credential.
+      throw new IllegalArgumentException(
+          "the bearer token is empty or holds line breaks or control characters (not shown);"
+              + " the token file must hold the token on one line");
+    }
+    if (timeout.isNegative() || timeout.isZero() || timeout.compareTo(MAX_TIMEOUT) > 0) {
+      throw new IllegalArgumentException(
+          "the timeout must be between 1 and "
+              + MAX_TIMEOUT.toSeconds()
+              + " seconds, got "
+              + timeout.toSeconds());
+    }
+  }
+
+  /** The base URL without user information, for messages and snapshot sources. */
+  public String redactedUri() {
+    return redacted(baseUri);
+  }
+
+  /** The URL with any user information (a password) left out, for messages. */
+  public static String redacted(URI uri) {
+    if (uri.getRawUserInfo() == null) {
+      return uri.toString();
+    }
+    return uri.toString().replace(uri.getRawUserInfo() + "@", "");
+  }
+
   /** An endpoint with no authentication, the JDK's trust store and the default timeout. */
   public static PrometheusEndpoint of(URI baseUri) {
     return new PrometheusEndpoint(baseUri, Optional.empty(), Optional.empty(), DEFAULT_TIMEOUT);

@@ -126,6 +126,17 @@ public final class WorkloadEstimator {
     }
     double young = mean(values(pods, Signal.YOUNG_GC_SECONDS_PER_SECOND));
     double old = mean(values(pods, Signal.OLD_GC_SECONDS_PER_SECOND));
+    if (!(young + old <= 1)) {
+      // A pod cannot spend more than all of a second in GC: series are counted twice (a query
+      // that does not sum by pod) or a counter misbehaved, so no figure of it can be trusted.
+      return new Held(
+          name,
+          String.format(
+              Locale.ROOT,
+              "GC time of %.3f seconds per second is above 1: check that the queries count each"
+                  + " collection once",
+              young + old));
+    }
     long samples = (long) values(pods, Signal.SAMPLE_COUNT)[0];
     boolean liveFallback = pods.stream().anyMatch(PodSignals::liveFromFallback);
     List<String> notes = new ArrayList<>();

@@ -5,8 +5,14 @@ import static org.assertj.core.api.Assertions.assertThat;
 import java.io.IOException;
 import java.net.InetAddress;
 import java.net.ServerSocket;
+import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
 import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+import org.junit.jupiter.params.ParameterizedTest;
+import org.junit.jupiter.params.provider.CsvSource;
 
 /** The Prometheus side of the command line when Prometheus cannot answer. */
 class SnapshotCommandTest {
@@ -50,5 +56,48 @@ class SnapshotCommandTest {
     PlanRun run = PlanRun.run("plan", "--pool", POOL.toString());
     assertThat(run.exitCode()).isEqualTo(Main.EXIT_BAD_INPUT);
     assertThat(run.err()).contains("exactly one of --snapshot or --prometheus");
+  }
+
+  @ParameterizedTest
+  @CsvSource(
+      delimiter = '|',
+      value = {
+        "--window-seconds|0|--window-seconds: must be between 10 and 604800, got 0",
+        "--window-seconds|-60|--window-seconds: must be between 10 and 604800, got -60",
+        "--timeout-seconds|0|--timeout-seconds: the timeout must be between 1 and 600 seconds",
+        "--prometheus|ftp://127.0.0.1:9090|must start with http:// or https://",
+        "--prometheus|http:///api|the Prometheus URL has no host"
+      })
+  void badMetricsFlagsAreRefusedInOneLineBeforeAnyRequest(String flag, String value, String message)
+      throws IOException {
+    List<String> args =
+        new ArrayList<>(
+            List.of("snapshot", "--pool", POOL.toString(), "--prometheus", deadPrometheus()));
+    args.add(flag);
+    args.add(value);
+    PlanRun run = PlanRun.run(args.toArray(String[]::new));
+    assertThat(run.exitCode()).isEqualTo(Main.EXIT_BAD_INPUT);
+    assertThat(run.out()).isEmpty();
+    assertThat(run.err().strip().lines()).hasSize(1);
+    assertThat(run.err()).contains(message).doesNotContain("Exception").doesNotContain("\tat ");
+  }
+
+  @Test
+  void aTokenFileWithALineBreakIsRefusedWithoutShowingTheToken(@TempDir Path dir)
+      throws IOException {
+    String secret = "s3cr3t-token-do-not-print";
+    Path tokenFile = Files.writeString(dir.resolve("token"), secret + "\nsecond-line\n");
+    PlanRun run =
+        PlanRun.run(
+            "snapshot",
+            "--pool",
+            POOL.toString(),
+            "--prometheus",
+            deadPrometheus(),
+            "--bearer-token-file",
+            tokenFile.toString());
+    assertThat(run.exitCode()).isEqualTo(Main.EXIT_BAD_INPUT);
+    assertThat(run.err()).contains("--bearer-token-file").contains("line breaks");
+    assertThat(run.out() + run.err()).doesNotContain("s3cr3t").doesNotContain("second-line");
   }
 }

@@ -296,6 +296,12 @@ class SnapshotReaderTest {
             relay + "gcSecondsPerSecond",
             "must be a decimal number"),
         arguments(
+            "more than all of each second in GC",
+            "gcSecondsPerSecond: 0.01",
+            "gcSecondsPerSecond: 1.5",
+            relay + "gcSecondsPerSecond",
+            "must be at most 1 (all of each second), got 1.5"),
+        arguments(
             "negative gc rate",
             "gcSecondsPerSecond: 0.01",
             "gcSecondsPerSecond: -0.01",

@@ -31,6 +31,12 @@ class PrometheusClientTest {
 
   private static final Duration TIMEOUT = Duration.ofMillis(500);
 
+  /** Gap between the bytes of a trickling body: its whole body takes far beyond the timeout. */
+  private static final Duration TRICKLE = Duration.ofMillis(100);
+
+  private static final String EMPTY_VECTOR =
+      "{\"status\":\"success\",\"data\":{\"resultType\":\"vector\",\"result\":[]}}";
+
   private HttpServer server;
   private final AtomicReference<String> lastAuthorization = new AtomicReference<>();
 
@@ -92,7 +98,7 @@ class PrometheusClientTest {
     expect(
         serve(200, "<html>proxy</html>", Duration.ZERO),
         MetricsException.Kind.BAD_RESPONSE,
-        "proxy");
+        "not a Prometheus error (18 characters)");
     stop();
     expect(serve(200, "{}", STALL), MetricsException.Kind.TIMEOUT, "did not answer");
   }
@@ -125,6 +131,114 @@ class PrometheusClientTest {
     assertThat(snapshot.held())
         .singleElement()
         .satisfies(h -> assertThat(h.reason()).contains("partial data").contains("eu-1"));
+  }
+
+  @Test
+  void aBodyThatTricklesIsCutOffAtTheTimeoutAndTheClientStillWorks() throws Exception {
+    AtomicReference<Boolean> trickle = new AtomicReference<>(true);
+    PrometheusClient client =
+        serveWith(
+            exchange -> {
+              if (!trickle.get()) {
+                respond(exchange, 200, EMPTY_VECTOR);
+                return;
+              }
+              exchange.sendResponseHeaders(200, 0);
+              try (OutputStream out = exchange.getResponseBody()) {
+                for (int i = 0; i < STALL.toMillis() / TRICKLE.toMillis(); i++) {
+                  out.write('{');
+                  out.flush();
+                  sleep(TRICKLE);
+                }
+              } catch (IOException e) {
+                // The client hung up, as it should.
+              }
+            });
+    long start = System.nanoTime();
+    expect(client, MetricsException.Kind.TIMEOUT, "did not answer within");
+    assertThat(Duration.ofNanos(System.nanoTime() - start)).isLessThan(STALL);
+    trickle.set(false);
+    assertThat(client.query("up", Instant.now()).samples()).isEmpty();
+  }
+
+  @Test
+  void aBodyBeyondTheCapIsRefusedWithoutRunningOutOfMemory() throws Exception {
+    AtomicReference<Boolean> flood = new AtomicReference<>(true);
+    byte[] chunk = new byte[1 << 20];
+    java.util.Arrays.fill(chunk, (byte) ' ');
+    PrometheusClient client =
+        serveWith(
+            exchange -> {
+              if (!flood.get()) {
+                respond(exchange, 200, EMPTY_VECTOR);
+                return;
+              }
+              exchange.sendResponseHeaders(200, 0);
+              try (OutputStream out = exchange.getResponseBody()) {
+                for (int i = 0; i <= (PrometheusClient.MAX_BODY_BYTES >> 20) + 8; i++) {
+                  out.write(chunk);
+                }
+              } catch (IOException e) {
+                // The client hung up after the cap, as it should.
+              }
+            },
+            Duration.ofSeconds(20));
+    expect(client, MetricsException.Kind.BAD_RESPONSE, "more than 64 MiB");
+    flood.set(false);
+    assertThat(client.query("up", Instant.now()).samples()).isEmpty();
+  }
+
+  @Test
+  void aRedirectIsNotFollowedSoTheTokenNeverLeavesTheOrigin() throws Exception {
+    HttpServer elsewhere =
+        HttpServer.create(new InetSocketAddress(InetAddress.getLoopbackAddress(), 0), 0);
+    AtomicReference<String> leaked = new AtomicReference<>();
+    elsewhere.createContext(
+        "/",
+        exchange -> {
+          leaked.set(String.valueOf(exchange.getRequestHeaders().getFirst("Authorization")));
+          respond(exchange, 200, EMPTY_VECTOR);
+        });
+    elsewhere.start();
+    try {
+      String target = "http://localhost:" + elsewhere.getAddress().getPort() + "/api/v1/query";
+      PrometheusClient client =
+          serveWith(
+              exchange -> {
+                exchange.getResponseHeaders().add("Location", target);
+                respond(exchange, 307, "");
+              });
+      expect(client, MetricsException.Kind.REJECTED, "redirect (HTTP 307), which is not followed");
+      assertThat(leaked.get()).isNull();
+    } finally {
+      elsewhere.stop(0);
+    }
+  }
+
+  @Test
+  void anErrorPageThatEchoesTheTokenIsNotQuoted() throws Exception {
+    PrometheusClient client =
+        serve(401, "<html>denied: Authorization: Bearer s3cret</html>", Duration.ZERO);
+    assertThatThrownBy(() -> client.query("up", Instant.now()))
+        .isInstanceOf(MetricsException.class)
+        .hasMessageContaining("HTTP 401")
+        .hasMessageNotContaining("s3cret");
+  }
+
+  private PrometheusClient serveWith(com.sun.net.httpserver.HttpHandler handler)
+      throws IOException, MetricsException {
+    return serveWith(handler, TIMEOUT);
+  }
+
+  private PrometheusClient serveWith(com.sun.net.httpserver.HttpHandler handler, Duration timeout)
+      throws IOException, MetricsException {
+    server = HttpServer.create(new InetSocketAddress(InetAddress.getLoopbackAddress(), 0), 0);
+    server.setExecutor(java.util.concurrent.Executors.newCachedThreadPool());
+    server.createContext("/api/v1/query", handler);
+    server.start();
+    URI uri = URI.create("http://127.0.0.1:" + server.getAddress().getPort());
+    return PrometheusClient.connect(
+        new PrometheusEndpoint(uri, Optional.of("s3cret"), Optional.empty(), timeout));
   }
 
   private static void expect(PrometheusClient client, MetricsException.Kind kind, String text) {

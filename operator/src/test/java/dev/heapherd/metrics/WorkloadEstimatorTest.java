@@ -82,6 +82,23 @@ class WorkloadEstimatorTest {
   }
 
   @Test
+  void holdsAWorkloadThatSpendsMoreThanAllOfEachSecondInGc() {
+    PodSignals doubled = pod("a", 1e8, 512e6, G1);
+    Map<Signal, Double> v = new EnumMap<>(doubled.values());
+    v.put(Signal.YOUNG_GC_SECONDS_PER_SECOND, 0.9);
+    v.put(Signal.OLD_GC_SECONDS_PER_SECOND, 0.3);
+    assertThat(
+            WorkloadEstimator.estimate(
+                "orders",
+                "Deployment",
+                List.of(new PodSignals("shop", "a", v, false, G1, 0)),
+                GC_SOURCE))
+        .isInstanceOfSatisfying(
+            WorkloadEstimator.Held.class,
+            h -> assertThat(h.reason()).contains("1.200 seconds per second is above 1"));
+  }
+
+  @Test
   void holdsAWorkloadWhoseLiveSetIsStillGrowing() {
     PodSignals steady = pod("a", 1e8, 512e6, G1);
     PodSignals growing =
