@@ -80,6 +80,9 @@ public final class PoolFileReader {
   /** Shortest window: tests use tens of seconds at one-second scrapes. */
   public static final long MIN_WINDOW_SECONDS = 10;
 
+  /** The placeholder a pool's own PromQL must carry: heapherd fills in the namespace matcher. */
+  public static final String SELECTOR_PLACEHOLDER = "${selector}";
+
   /** Longest window: one week, beyond which a fleet's code has usually changed. */
   public static final long MAX_WINDOW_SECONDS = 7L * 24 * 3600;
 
@@ -284,7 +287,16 @@ public final class PoolFileReader {
         if (!seen.add(signal)) {
           throw q.required("signal").error("duplicate query for " + signal);
         }
-        queries.add(new PoolFile.Query(signal, q.required("promql").text()));
+        String promql = q.required("promql").text();
+        if (!promql.contains(SELECTOR_PLACEHOLDER)) {
+          // Without it the query reads every namespace Prometheus scrapes, not the pool's.
+          throw q.required("promql")
+              .error(
+                  "must contain "
+                      + SELECTOR_PLACEHOLDER
+                      + " in each series selector, so that it reads only the pool's namespace");
+        }
+        queries.add(new PoolFile.Query(signal, promql));
       }
     }
     String label = "";

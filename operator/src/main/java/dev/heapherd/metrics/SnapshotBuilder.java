@@ -59,6 +59,19 @@ public final class SnapshotBuilder {
             Comparator.comparing(PodOwners.Owner::name).thenComparing(PodOwners.Owner::kind));
     List<Snapshot.Held> held = new ArrayList<>();
     for (PodSignals pod : pods) {
+      if (!namespace.equals(pod.namespace())) {
+        // A query that lost its selector, or a relabelling that rewrote the namespace: another
+        // namespace's pods must never be measured as this pool's workloads.
+        held.add(
+            new Snapshot.Held(
+                pod.namespace() + "/" + pod.pod(),
+                "series of namespace \""
+                    + pod.namespace()
+                    + "\" answered a query for namespace \""
+                    + namespace
+                    + "\": dropped; check the pool's queries and relabelling"));
+        continue;
+      }
       var owner = owner(pod, labelled);
       if (owner.isPresent()) {
         byOwner.computeIfAbsent(owner.get(), o -> new ArrayList<>()).add(pod);

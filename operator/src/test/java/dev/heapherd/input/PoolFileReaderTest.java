@@ -179,6 +179,14 @@ class PoolFileReaderTest {
 
   static Stream<Arguments> badPools() {
     return Stream.of(
+        // A query that would read every namespace.
+        arguments(
+            "a query without the pool's selector",
+            "  defaults:",
+            "  metrics:\n    queries:\n      - signal: liveBytes\n"
+                + "        promql: 'max by (namespace, pod) (jvm_memory_used_bytes)'\n  defaults:",
+            "spec.metrics.queries[0].promql",
+            "must contain ${selector} in each series selector"),
         // Rollout settings.
         arguments(
             "an environment variable name with a space",

@@ -117,6 +117,34 @@ class PrometheusClientTest {
   }
 
   @Test
+  void seriesOfAnotherNamespaceAreDroppedAndReported() throws Exception {
+    // Every query answers with a pod of namespace "other", as a query without the pool's
+    // selector would: it must not be measured as the pool's workload "orders".
+    String otherPod =
+        "{\"status\":\"success\",\"data\":{\"resultType\":\"vector\",\"result\":["
+            + "{\"metric\":{\"namespace\":\"other\",\"pod\":\"orders-7d4b9c6f5-x2x9q\","
+            + "\"collector\":\"G1 Young Generation\"},\"value\":[1,\"100\"]}]}}";
+    PrometheusClient client = serveWith(exchange -> respond(exchange, 200, otherPod));
+    server.createContext(
+        "/api/v1/query_range",
+        exchange ->
+            respond(
+                exchange,
+                200,
+                "{\"status\":\"success\",\"data\":{\"resultType\":\"matrix\",\"result\":[]}}"));
+    Snapshot snapshot =
+        new SnapshotBuilder(new FleetReader(client, QueryProfiles.MICROMETER))
+            .build("shop", 60, Instant.now(), List.of("orders"));
+    assertThat(snapshot.workloads()).isEmpty();
+    assertThat(snapshot.held())
+        .anySatisfy(
+            h -> {
+              assertThat(h.name()).isEqualTo("other/orders-7d4b9c6f5-x2x9q");
+              assertThat(h.reason()).contains("namespace \"other\" answered a query for");
+            });
+  }
+
+  @Test
   void partialDataHoldsEveryExpectedWorkload() throws Exception {
     PrometheusClient client =
         serve(
