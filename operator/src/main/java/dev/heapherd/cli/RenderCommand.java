@@ -6,6 +6,7 @@ import dev.heapherd.input.PoolFileReader;
 import dev.heapherd.input.Snapshot;
 import dev.heapherd.input.SnapshotReader;
 import dev.heapherd.metrics.PrometheusEndpoint;
+import dev.heapherd.render.FolderWriter;
 import dev.heapherd.render.ManifestFile;
 import dev.heapherd.render.ManifestFolder;
 import dev.heapherd.render.RenderReport;
@@ -14,7 +15,6 @@ import java.io.IOException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
-import java.util.Arrays;
 import java.util.List;
 import java.util.concurrent.Callable;
 import picocli.CommandLine;
@@ -110,41 +110,28 @@ final class RenderCommand implements Callable<Integer> {
 
   /**
    * In place: the changed files. With --output: every file, so the copy is complete; files already
-   * equal are left alone, so a second run into the same folder touches nothing.
+   * equal are left alone, so a second run into the same folder touches nothing. All or nothing:
+   * every target is checked and written beside itself before any is replaced.
    */
   private void write(List<String> files, Renderer.Outcome outcome) throws InputException {
+    FolderWriter writer = new FolderWriter(output != null ? output : manifests);
     for (ManifestFile f : outcome.files()) {
       if (outcome.changedFiles().contains(f.relative())) {
-        Path to = (output != null ? output : manifests).resolve(f.relative());
-        writeIfDifferent(to, f.text().getBytes(StandardCharsets.UTF_8));
+        writer.add(f.relative(), f.text().getBytes(StandardCharsets.UTF_8));
       }
     }
-    if (output == null) {
-      return;
-    }
-    for (String relative : files) {
-      if (!outcome.changedFiles().contains(relative)) {
-        try {
-          writeIfDifferent(
-              output.resolve(relative), Files.readAllBytes(manifests.resolve(relative)));
-        } catch (IOException e) {
-          throw new InputException(
-              manifests.resolve(relative).toString(), "", "cannot read: " + e.getMessage());
+    if (output != null) {
+      for (String relative : files) {
+        if (!outcome.changedFiles().contains(relative)) {
+          try {
+            writer.add(relative, Files.readAllBytes(manifests.resolve(relative)));
+          } catch (IOException e) {
+            throw new InputException(
+                manifests.resolve(relative).toString(), "", "cannot read: " + e.getMessage());
+          }
         }
       }
     }
-  }
-
-  private static void writeIfDifferent(Path to, byte[] content) throws InputException {
-    try {
-      if (Files.isRegularFile(to) && Arrays.equals(Files.readAllBytes(to), content)) {
-        return;
-      }
-      Path parent = to.toAbsolutePath().getParent();
-      Files.createDirectories(parent);
-      Files.write(to, content);
-    } catch (IOException e) {
-      throw new InputException(to.toString(), "", "cannot write: " + e.getMessage());
-    }
+    writer.commit();
   }
 }

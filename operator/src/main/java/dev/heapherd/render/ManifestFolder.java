@@ -46,13 +46,28 @@ public final class ManifestFolder {
             }
 
             @Override
-            public FileVisitResult visitFile(Path file, BasicFileAttributes attributes) {
-              if (attributes.isRegularFile() && !hidden(file)) {
+            public FileVisitResult visitFile(Path file, BasicFileAttributes attributes)
+                throws IOException {
+              if (hidden(file)) {
+                return FileVisitResult.CONTINUE;
+              }
+              if (attributes.isSymbolicLink()) {
+                // Skipping it would drop its workloads from the plan unseen; following it could
+                // read, and later write, outside the folder.
+                throw new LinkFound(file);
+              }
+              if (attributes.isRegularFile()) {
                 out.add(relative(dir, file));
               }
               return FileVisitResult.CONTINUE;
             }
           });
+    } catch (LinkFound e) {
+      throw new InputException(
+          e.link.toString(),
+          "",
+          "is a symbolic link; heapherd reads and writes only plain files inside the folder:"
+              + " replace the link with the file, or move it out of the folder");
     } catch (IOException e) {
       throw new InputException(dir.toString(), "", "cannot read: " + e.getMessage());
     }
@@ -92,5 +107,17 @@ public final class ManifestFolder {
 
   private static String relative(Path dir, Path file) {
     return dir.relativize(file).toString().replace(file.getFileSystem().getSeparator(), "/");
+  }
+
+  /** Ends the walk at a symbolic link. */
+  private static final class LinkFound extends IOException {
+    private static final long serialVersionUID = 1L;
+
+    private final transient Path link;
+
+    LinkFound(Path link) {
+      super(link.toString());
+      this.link = link;
+    }
   }
 }

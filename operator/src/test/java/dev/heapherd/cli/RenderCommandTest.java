@@ -612,6 +612,54 @@ class RenderCommandTest {
   }
 
   @Test
+  void neverWritesThroughALinkInTheOutputFolder() throws IOException {
+    Path manifests = example();
+    Path outside = write("outside.yaml", "kept: true\n");
+    Path out = Files.createDirectories(dir.resolve("rendered"));
+    Files.createSymbolicLink(out.resolve("warehouse-sync.yaml"), outside);
+
+    render(POOL, manifests, "--output", out.toString())
+        .assertRejected(
+            out.resolve("warehouse-sync.yaml").toAbsolutePath(), "", "is a symbolic link");
+
+    assertThat(Files.readString(outside)).isEqualTo("kept: true\n");
+    assertThat(contents(out)).containsOnlyKeys("warehouse-sync.yaml");
+  }
+
+  @Test
+  void refusesASymbolicLinkAmongTheManifestsRatherThanDroppingItsWorkloads() throws IOException {
+    Path manifests = example();
+    Path moved = Files.move(manifests.resolve("warehouse-sync.yaml"), dir.resolve("sync.yaml"));
+    Files.createSymbolicLink(manifests.resolve("warehouse-sync.yaml"), moved);
+    Map<String, String> before = contents(manifests);
+
+    render(POOL, manifests)
+        .assertRejected(manifests.resolve("warehouse-sync.yaml"), "", "is a symbolic link");
+    assertThat(contents(manifests)).isEqualTo(before);
+  }
+
+  @Test
+  void aTargetThatCannotBeWrittenLeavesEveryFileAsItWas() throws IOException {
+    Path manifests = example();
+    Path out = Files.createDirectories(dir.resolve("rendered"));
+    // The last file to write is a folder in the output: nothing may be written before the
+    // problem is found.
+    List<String> names;
+    try (Stream<Path> files = Files.list(manifests)) {
+      names = files.map(p -> p.getFileName().toString()).sorted().toList();
+    }
+    Files.createDirectories(out.resolve(names.get(names.size() - 1)));
+
+    PlanRun run = render(POOL, manifests, "--output", out.toString());
+
+    assertThat(run.exitCode()).isEqualTo(Main.EXIT_BAD_INPUT);
+    assertThat(run.err()).contains("not a regular file");
+    try (Stream<Path> files = Files.list(out)) {
+      assertThat(files.filter(Files::isRegularFile).toList()).isEmpty();
+    }
+  }
+
+  @Test
   void needsExactlyOneMetricsSource() throws IOException {
     Path manifests = example();
 
