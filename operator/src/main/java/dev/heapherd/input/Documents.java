@@ -2,21 +2,45 @@ package dev.heapherd.input;
 
 import com.fasterxml.jackson.core.JacksonException;
 import com.fasterxml.jackson.core.JsonParser;
+import com.fasterxml.jackson.core.JsonToken;
 import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.dataformat.yaml.YAMLFactory;
 import com.fasterxml.jackson.dataformat.yaml.YAMLMapper;
+import com.fasterxml.jackson.dataformat.yaml.YAMLParser;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.NoSuchFileException;
 import java.nio.file.Path;
 import java.util.Optional;
+import org.yaml.snakeyaml.LoaderOptions;
 import org.yaml.snakeyaml.error.Mark;
 import org.yaml.snakeyaml.error.MarkedYAMLException;
 
 /** Reads a YAML or JSON file (JSON is valid YAML) into a tree, with one-line errors. */
 public final class Documents {
 
+  /**
+   * Largest file read, our choice: a snapshot of 100,000 workloads is about 60 MB, so this leaves
+   * room, and anything bigger (or without end, such as a device) is refused before it is read.
+   */
+  public static final long MAX_FILE_BYTES = 256L << 20;
+
   private static final YAMLMapper MAPPER =
-      YAMLMapper.builder().enable(JsonParser.Feature.STRICT_DUPLICATE_DETECTION).build();
+      YAMLMapper.builder(
+              YAMLFactory.builder()
+                  .loaderOptions(loaderOptions())
+                  // On in a plain YAMLFactory, off in its builder: "---" alone must read as empty.
+                  .enable(YAMLParser.Feature.EMPTY_STRING_AS_NULL)
+                  .build())
+          .enable(JsonParser.Feature.STRICT_DUPLICATE_DETECTION)
+          .build();
+
+  private static LoaderOptions loaderOptions() {
+    LoaderOptions options = new LoaderOptions();
+    // SnakeYAML's own default is 3 MB, below a large pool's snapshot.
+    options.setCodePointLimit((int) MAX_FILE_BYTES);
+    return options;
+  }
 
   private Documents() {}
 
@@ -24,6 +48,13 @@ public final class Documents {
     String name = file.toString();
     String text;
     try {
+      if (Files.exists(file) && !Files.isRegularFile(file)) {
+        throw new InputException(name, "", "cannot read: not a regular file");
+      }
+      if (Files.size(file) > MAX_FILE_BYTES) {
+        throw new InputException(
+            name, "", "is larger than " + (MAX_FILE_BYTES >> 20) + " MiB; not read");
+      }
       text = Files.readString(file);
     } catch (NoSuchFileException e) {
       throw new InputException(name, "", "no such file");
@@ -43,14 +74,53 @@ public final class Documents {
       throws InputException {
     JsonNode tree;
     try {
+      checkPlain(file, text, startLine);
       tree = MAPPER.readTree(text);
     } catch (JacksonException e) {
       throw malformed(file, e, startLine);
+    } catch (IOException e) {
+      throw new InputException(file, "", "cannot read: " + e.getMessage());
     }
     if (tree == null || tree.isMissingNode() || tree.isNull()) {
       return Optional.empty();
     }
     return Optional.of(tree);
+  }
+
+  /**
+   * Refuses what a tree would silently get wrong: an anchor or alias (Jackson reads {@code *name}
+   * as the text "name", and a rewritten document would lose the link), and a second document after
+   * the first (only the first would be read).
+   */
+  private static void checkPlain(String file, String text, int startLine)
+      throws IOException, InputException {
+    try (JsonParser parser = MAPPER.createParser(text)) {
+      YAMLParser yaml = (YAMLParser) parser;
+      int depth = 0;
+      boolean rootDone = false;
+      for (JsonToken t = yaml.nextToken(); t != null; t = yaml.nextToken()) {
+        String where = "line " + (yaml.currentTokenLocation().getLineNr() + startLine - 1);
+        if (rootDone) {
+          throw new InputException(
+              file,
+              where,
+              "a second YAML document; this file must hold one (split it, or remove the ---)");
+        }
+        if (yaml.isCurrentAlias() || yaml.getObjectId() != null) {
+          throw new InputException(
+              file,
+              where,
+              "uses a YAML anchor or alias (&name, *name), which heapherd does not resolve or"
+                  + " keep; write the value out in full");
+        }
+        if (t.isStructStart()) {
+          depth++;
+        } else if (t.isStructEnd()) {
+          depth--;
+        }
+        rootDone = depth == 0;
+      }
+    }
   }
 
   /**
