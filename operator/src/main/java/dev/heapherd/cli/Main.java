@@ -1,5 +1,6 @@
 package dev.heapherd.cli;
 
+import dev.heapherd.input.ErrorText;
 import picocli.CommandLine;
 import picocli.CommandLine.Command;
 
@@ -59,7 +60,9 @@ public final class Main implements Runnable {
     cli.setExecutionExceptionHandler(
         (e, commandLine, parseResult) -> {
           // A failure here is a defect of ours; one line says so without a stack trace.
-          commandLine.getErr().println("heapherd: internal error: " + e);
+          commandLine
+              .getErr()
+              .println("heapherd: internal error: " + ErrorText.oneLine(e.toString()));
           return EXIT_INTERNAL_ERROR;
         });
     cli.setParameterExceptionHandler(
@@ -70,7 +73,7 @@ public final class Main implements Runnable {
               .getErr()
               .println(
                   "heapherd: "
-                      + e.getMessage()
+                      + ErrorText.oneLine(e.getMessage())
                       + " (see "
                       + failed.getCommandSpec().qualifiedName()
                       + " --help)");

@@ -1,5 +1,6 @@
 package dev.heapherd.cli;
 
+import dev.heapherd.input.ErrorText;
 import dev.heapherd.metrics.MetricsException;
 import dev.heapherd.metrics.PrometheusClient;
 import dev.heapherd.metrics.PrometheusEndpoint;
@@ -88,7 +89,7 @@ final class OperatorCommand implements Callable<Integer> {
       address = address(httpAddress);
       prometheusClient = PrometheusClient.connect(endpoint());
     } catch (IllegalArgumentException | MetricsException | IOException e) {
-      err.println("heapherd: " + e.getMessage());
+      err.println("heapherd: " + ErrorText.oneLine(e.getMessage()));
       return Main.EXIT_BAD_INPUT;
     }
     PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);

@@ -4,6 +4,7 @@ import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import com.fasterxml.jackson.databind.SerializationFeature;
 import dev.heapherd.engine.PoolPlan;
+import dev.heapherd.input.ErrorText;
 import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.PoolFileReader;
@@ -64,7 +65,7 @@ final class PlanCommand implements Callable<Integer> {
       PoolPlan plan = Planner.plan(poolFile, pool.toString(), measured, source);
       doc = PlanDocument.of(poolFile, measured, plan);
     } catch (InputException e) {
-      spec.commandLine().getErr().println("heapherd: " + e.getMessage());
+      spec.commandLine().getErr().println("heapherd: " + ErrorText.oneLine(e.getMessage()));
       return Main.EXIT_BAD_INPUT;
     }
     String text =

@@ -1,5 +1,6 @@
 package dev.heapherd.cli;
 
+import dev.heapherd.input.ErrorText;
 import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.PoolFileReader;
@@ -82,7 +83,7 @@ final class RenderCommand implements Callable<Integer> {
         write(files, outcome);
       }
     } catch (InputException e) {
-      spec.commandLine().getErr().println("heapherd: " + e.getMessage());
+      spec.commandLine().getErr().println("heapherd: " + ErrorText.oneLine(e.getMessage()));
       return Main.EXIT_BAD_INPUT;
     }
     Path target = output != null ? output : manifests;

@@ -1,5 +1,6 @@
 package dev.heapherd.cli;
 
+import dev.heapherd.input.ErrorText;
 import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.PoolFileReader;
@@ -44,7 +45,9 @@ final class SnapshotCommand implements Callable<Integer> {
       Snapshot snapshot = metrics.measure(poolFile);
       String text = SnapshotWriter.write(snapshot, PrometheusEndpoint.redacted(metrics.prometheus));
       for (Snapshot.Held h : snapshot.held()) {
-        spec.commandLine().getErr().println("heapherd: held " + h.name() + ": " + h.reason());
+        spec.commandLine()
+            .getErr()
+            .println(ErrorText.oneLine("heapherd: held " + h.name() + ": " + h.reason()));
       }
       if (output == null) {
         spec.commandLine().getOut().print(text);
@@ -54,7 +57,7 @@ final class SnapshotCommand implements Callable<Integer> {
       }
       return snapshot.workloads().isEmpty() ? Main.EXIT_NOTHING_MEASURED : 0;
     } catch (InputException e) {
-      spec.commandLine().getErr().println("heapherd: " + e.getMessage());
+      spec.commandLine().getErr().println("heapherd: " + ErrorText.oneLine(e.getMessage()));
       return Main.EXIT_BAD_INPUT;
     } catch (IOException e) {
       spec.commandLine()

@@ -29,13 +29,8 @@ final class Field {
       Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?");
 
   /** Kubernetes object names are DNS subdomains (RFC 1123), as the API server checks them. */
-  private static final Pattern OBJECT_NAME =
-      Pattern.compile("[a-z0-9]([-a-z0-9]*[a-z0-9])?(\\.[a-z0-9]([-a-z0-9]*[a-z0-9])?)*");
-
-  /** Longest DNS subdomain, per RFC 1123 as Kubernetes applies it. */
-  private static final int MAX_NAME_LENGTH = 253;
-
   private final String file;
+
   private final String path;
   private final JsonNode node;
 
@@ -124,11 +119,10 @@ final class Field {
   /** A Kubernetes object name: a DNS subdomain of lower-case letters, digits, '-' and '.'. */
   String objectName() throws InputException {
     String value = text();
-    if (value.length() > MAX_NAME_LENGTH || !OBJECT_NAME.matcher(value).matches()) {
+    if (!ObjectNames.valid(value)) {
       throw error(
-          "\""
-              + value
-              + "\" is not a valid Kubernetes name (lower-case letters, digits, '-' and '.',"
+          ErrorText.quoted(value)
+              + " is not a valid Kubernetes name (lower-case letters, digits, '-' and '.',"
               + " starting and ending with a letter or digit, at most 253 characters)");
     }
     return value;
@@ -283,7 +277,10 @@ final class Field {
     if (node.isIntegralNumber() && node.canConvertToLong()) {
       bytes = node.asLong();
     } else if (node.isNumber() && Math.abs(node.asDouble()) <= MAX_BYTES) {
-      bytes = (long) Math.ceil(node.asDouble());
+      if (node.asDouble() != Math.rint(node.asDouble())) {
+        throw error("must be a whole number of bytes, got " + node.asText());
+      }
+      bytes = (long) node.asDouble();
     } else if (node.isNumber()) {
       throw error(tooLarge());
     } else if (node.isTextual()) {

@@ -64,8 +64,8 @@ public final class SnapshotBuilder {
         // namespace's pods must never be measured as this pool's workloads.
         held.add(
             new Snapshot.Held(
-                pod.namespace() + "/" + pod.pod(),
-                "series of namespace \""
+                pod.pod(),
+                "pod of namespace \""
                     + pod.namespace()
                     + "\" answered a query for namespace \""
                     + namespace

@@ -2,7 +2,9 @@ package dev.heapherd.render;
 
 import com.fasterxml.jackson.databind.JsonMappingException;
 import com.fasterxml.jackson.databind.JsonNode;
+import dev.heapherd.input.ErrorText;
 import dev.heapherd.input.InputException;
+import dev.heapherd.input.ObjectNames;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Snapshot;
 import dev.heapherd.reconcile.Observer;
@@ -34,6 +36,16 @@ final class WorkloadReader {
     String where = "line " + d.contentLine();
     if (name.isEmpty()) {
       throw new InputException(file.name(), where, kind + " without metadata.name");
+    }
+    if (!ObjectNames.valid(name)) {
+      // The API server would refuse it, and it would be printed in tables and reports.
+      throw new InputException(
+          file.name(),
+          where,
+          kind
+              + " metadata.name "
+              + ErrorText.quoted(name)
+              + " is not a valid Kubernetes name (lower-case letters, digits, '-' and '.')");
     }
     HasMetadata resource;
     try {

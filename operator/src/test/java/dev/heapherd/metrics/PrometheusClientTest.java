@@ -27,9 +27,9 @@ import org.junit.jupiter.api.Test;
 class PrometheusClientTest {
 
   /** Longer than the client's timeout in these tests. */
-  private static final Duration STALL = Duration.ofSeconds(3);
+  private static final Duration STALL = Duration.ofSeconds(6);
 
-  private static final Duration TIMEOUT = Duration.ofMillis(500);
+  private static final Duration TIMEOUT = Duration.ofMillis(1500);
 
   /** Gap between the bytes of a trickling body: its whole body takes far beyond the timeout. */
   private static final Duration TRICKLE = Duration.ofMillis(100);
@@ -139,8 +139,8 @@ class PrometheusClientTest {
     assertThat(snapshot.held())
         .anySatisfy(
             h -> {
-              assertThat(h.name()).isEqualTo("other/orders-7d4b9c6f5-x2x9q");
-              assertThat(h.reason()).contains("namespace \"other\" answered a query for");
+              assertThat(h.name()).isEqualTo("orders-7d4b9c6f5-x2x9q");
+              assertThat(h.reason()).contains("pod of namespace \"other\" answered a query for");
             });
   }
 
