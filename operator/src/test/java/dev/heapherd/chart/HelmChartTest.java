@@ -8,8 +8,12 @@ import com.fasterxml.jackson.dataformat.yaml.YAMLMapper;
 import com.marcnuri.helm.Helm;
 import io.fabric8.kubernetes.api.model.HasMetadata;
 import io.fabric8.kubernetes.api.model.apps.Deployment;
+import io.fabric8.kubernetes.api.model.networking.v1.NetworkPolicy;
 import io.fabric8.kubernetes.api.model.rbac.ClusterRole;
+import io.fabric8.kubernetes.api.model.rbac.ClusterRoleBinding;
 import io.fabric8.kubernetes.api.model.rbac.PolicyRule;
+import io.fabric8.kubernetes.api.model.rbac.Role;
+import io.fabric8.kubernetes.api.model.rbac.RoleBinding;
 import io.fabric8.kubernetes.client.utils.Serialization;
 import java.nio.file.Path;
 import java.util.ArrayList;
@@ -32,13 +36,11 @@ class HelmChartTest {
   void rendersALeastPrivilegeOperatorThatRunsNonRootOnAReadOnlyFilesystem() throws Exception {
     List<HasMetadata> objects = render("http://prometheus.monitoring:9090");
 
-    ClusterRole role = only(objects, ClusterRole.class);
-    List<PolicyRule> expected = new ArrayList<>();
-    for (JsonNode rule :
-        new YAMLMapper().readTree(CHART.resolve("files/operator-rules.yaml").toFile())) {
-      expected.add(Serialization.unmarshal(rule.toString(), PolicyRule.class));
-    }
-    assertThat(role.getRules()).as("the rules HeapPoolReconcilerIT checks").isEqualTo(expected);
+    ClusterRole role = named(objects, ClusterRole.class, "heapherd");
+    assertThat(role.getRules())
+        .as("the rules HeapPoolReconcilerIT checks")
+        .isEqualTo(operatorRules());
+    assertThat(objects).noneMatch(o -> o instanceof Role);
 
     Deployment d = only(objects, Deployment.class);
     var pod = d.getSpec().getTemplate().getSpec();
@@ -86,6 +88,98 @@ class HelmChartTest {
         .filteredOn(v -> v.getConfigMap() != null)
         .extracting(v -> v.getConfigMap().getName())
         .containsExactly("prometheus-ca");
+  }
+
+  @Test
+  void withWatchedNamespacesGrantsOnlyNamespacedRolesThere() throws Exception {
+    List<HasMetadata> objects =
+        render(
+            Map.of(
+                "prometheus.url", "http://prometheus.monitoring:9090",
+                "watchNamespaces[0]", "tidewater-dispatch",
+                "watchNamespaces[1]", "tidewater-billing"));
+
+    assertThat(objects)
+        .filteredOn(o -> o instanceof ClusterRoleBinding)
+        .as("no cluster-wide grant to the operator")
+        .isEmpty();
+    assertThat(objects)
+        .filteredOn(o -> o instanceof ClusterRole)
+        .extracting(o -> o.getMetadata().getName())
+        .containsExactlyInAnyOrder("heapherd-view", "heapherd-edit");
+    List<PolicyRule> workloadRules =
+        operatorRules().stream()
+            .filter(r -> !r.getApiGroups().contains("coordination.k8s.io"))
+            .toList();
+    for (String ns : List.of("tidewater-dispatch", "tidewater-billing")) {
+      Role role =
+          objects.stream()
+              .filter(o -> o instanceof Role && ns.equals(o.getMetadata().getNamespace()))
+              .map(Role.class::cast)
+              .findFirst()
+              .orElseThrow();
+      assertThat(role.getRules()).isEqualTo(workloadRules);
+      assertThat(objects)
+          .anyMatch(
+              o ->
+                  o instanceof RoleBinding b
+                      && ns.equals(b.getMetadata().getNamespace())
+                      && b.getRoleRef().getName().equals(role.getMetadata().getName()));
+    }
+    Role election = named(objects, Role.class, "heapherd-leader-election");
+    assertThat(election.getMetadata().getNamespace()).isEqualTo(Chart.NAMESPACE);
+    assertThat(election.getRules())
+        .singleElement()
+        .satisfies(r -> assertThat(r.getResources()).containsExactly("leases"));
+  }
+
+  @Test
+  void userRolesJoinTheStandardViewAndEditRoles() {
+    List<HasMetadata> objects = render("http://prometheus.monitoring:9090");
+    ClusterRole view = named(objects, ClusterRole.class, "heapherd-view");
+    ClusterRole edit = named(objects, ClusterRole.class, "heapherd-edit");
+    assertThat(view.getMetadata().getLabels())
+        .containsEntry("rbac.authorization.k8s.io/aggregate-to-view", "true");
+    assertThat(edit.getMetadata().getLabels())
+        .containsEntry("rbac.authorization.k8s.io/aggregate-to-edit", "true")
+        .doesNotContainKey("rbac.authorization.k8s.io/aggregate-to-view");
+    assertThat(view.getRules()).allSatisfy(r -> assertThat(r.getVerbs()).doesNotContain("update"));
+  }
+
+  @Test
+  void offersAMetricsNetworkPolicyAndTheAdmissionPolicy() {
+    List<HasMetadata> objects =
+        render(
+            Map.of(
+                "prometheus.url", "http://prometheus.monitoring:9090",
+                "metrics.networkPolicy.enabled", "true"));
+    NetworkPolicy policy = only(objects, NetworkPolicy.class);
+    assertThat(policy.getSpec().getIngress())
+        .singleElement()
+        .satisfies(i -> assertThat(i.getPorts().get(0).getPort().getIntVal()).isEqualTo(8080));
+    assertThat(objects)
+        .extracting(HasMetadata::getKind)
+        .contains("ValidatingAdmissionPolicy", "ValidatingAdmissionPolicyBinding");
+    assertThat(render("http://prometheus.monitoring:9090"))
+        .noneMatch(o -> o instanceof NetworkPolicy);
+  }
+
+  private static List<PolicyRule> operatorRules() throws Exception {
+    List<PolicyRule> expected = new ArrayList<>();
+    for (JsonNode rule :
+        new YAMLMapper().readTree(CHART.resolve("files/operator-rules.yaml").toFile())) {
+      expected.add(Serialization.unmarshal(rule.toString(), PolicyRule.class));
+    }
+    return expected;
+  }
+
+  private static <T extends HasMetadata> T named(
+      List<HasMetadata> objects, Class<T> type, String name) {
+    return objects.stream()
+        .filter(o -> type.isInstance(o) && name.equals(o.getMetadata().getName()))
+        .map(type::cast)
+        .findFirst()
+        .orElseThrow(() -> new AssertionError("no " + type.getSimpleName() + " " + name));
   }
 
   @Test
