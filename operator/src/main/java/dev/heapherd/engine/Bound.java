@@ -10,7 +10,10 @@ public enum Bound {
   CEILING("ceiling"),
   /** The limit on change per step relative to the current heap. */
   STEP("step"),
-  /** Kept at today's heap: no GC time was measured, so nothing predicts what a change would do. */
+  /**
+   * Kept at today's heap: no GC time was measured, or the points of several heaps show none that
+   * depends on heap, so nothing predicts what a change would do.
+   */
   KEPT("kept-unpredictable"),
   /**
    * Shrunk no further in this step: no old-generation collection was measured, so at most {@link

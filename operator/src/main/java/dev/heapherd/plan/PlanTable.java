@@ -1,6 +1,7 @@
 package dev.heapherd.plan;
 
 import dev.heapherd.engine.Bound;
+import dev.heapherd.engine.GcConstantEstimator;
 import dev.heapherd.input.Quantity;
 import java.util.ArrayList;
 import java.util.List;
@@ -109,14 +110,19 @@ public final class PlanTable {
           .append(" budget leaves room for them.\n");
     }
     List<String> kept =
-        doc.workloads().stream()
-            .filter(w -> Bound.KEPT.label().equals(w.bound()))
-            .map(PlanDocument.WorkloadEntry::name)
-            .toList();
+        kept(doc, w -> !GcConstantEstimator.HISTORY_FIT.label().equals(w.gcConstantEstimator()));
     if (!kept.isEmpty()) {
       out.append("Kept at today's heap, no GC time was measured to predict a change from: ")
           .append(String.join(", ", kept))
           .append(". Measure over a longer window or check that the pods export GC metrics.\n");
+    }
+    List<String> flat =
+        kept(doc, w -> GcConstantEstimator.HISTORY_FIT.label().equals(w.gcConstantEstimator()));
+    if (!flat.isEmpty()) {
+      out.append("Kept at today's heap, GC time did not change with heap across the measured")
+          .append(" heaps, so nothing says a change would pay: ")
+          .append(String.join(", ", flat))
+          .append('\n');
     }
     List<String> onePoint =
         doc.workloads().stream()
@@ -168,5 +174,13 @@ public final class PlanTable {
 
   private static String seconds(double value) {
     return Double.isFinite(value) ? String.format(Locale.ROOT, "%.1f", value) : "unbounded";
+  }
+
+  private static List<String> kept(
+      PlanDocument doc, java.util.function.Predicate<PlanDocument.WorkloadEntry> which) {
+    return doc.workloads().stream()
+        .filter(w -> Bound.KEPT.label().equals(w.bound()) && which.test(w))
+        .map(PlanDocument.WorkloadEntry::name)
+        .toList();
   }
 }
