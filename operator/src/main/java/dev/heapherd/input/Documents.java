@@ -4,6 +4,8 @@ import com.fasterxml.jackson.core.JacksonException;
 import com.fasterxml.jackson.core.JsonParser;
 import com.fasterxml.jackson.core.JsonToken;
 import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import com.fasterxml.jackson.databind.json.JsonMapper;
 import com.fasterxml.jackson.dataformat.yaml.YAMLFactory;
 import com.fasterxml.jackson.dataformat.yaml.YAMLMapper;
 import com.fasterxml.jackson.dataformat.yaml.YAMLParser;
@@ -34,6 +36,15 @@ public final class Documents {
                   .build())
           .enable(JsonParser.Feature.STRICT_DUPLICATE_DETECTION)
           .build();
+
+  private static final ObjectMapper JSON =
+      JsonMapper.builder().enable(JsonParser.Feature.STRICT_DUPLICATE_DETECTION).build();
+
+  /**
+   * Longest YAML line read, our choice: no field of a pool, snapshot or manifest needs more, and
+   * the YAML scanner's time grows faster than a token's length (a 50 MB value took minutes).
+   */
+  static final int MAX_YAML_LINE_CHARS = 1 << 20;
 
   private static LoaderOptions loaderOptions() {
     LoaderOptions options = new LoaderOptions();
@@ -74,6 +85,14 @@ public final class Documents {
       throws InputException {
     JsonNode tree;
     try {
+      if (file.endsWith(".json")) {
+        // Jackson's JSON parser reads in linear time and caps string lengths itself.
+        tree = JSON.readTree(text);
+        return tree == null || tree.isMissingNode() || tree.isNull()
+            ? Optional.empty()
+            : Optional.of(tree);
+      }
+      checkLineLengths(file, text, startLine);
       checkPlain(file, text, startLine);
       tree = MAPPER.readTree(text);
     } catch (JacksonException e) {
@@ -85,6 +104,24 @@ public final class Documents {
       return Optional.empty();
     }
     return Optional.of(tree);
+  }
+
+  private static void checkLineLengths(String file, String text, int startLine)
+      throws InputException {
+    int line = 0;
+    int lineStart = 0;
+    for (int i = 0; i <= text.length(); i++) {
+      if (i == text.length() || text.charAt(i) == '\n') {
+        if (i - lineStart > MAX_YAML_LINE_CHARS) {
+          throw new InputException(
+              file,
+              "line " + (line + startLine),
+              "is longer than " + MAX_YAML_LINE_CHARS + " characters; no field needs that much");
+        }
+        line++;
+        lineStart = i + 1;
+      }
+    }
   }
 
   /**

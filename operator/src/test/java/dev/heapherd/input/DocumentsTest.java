@@ -67,4 +67,12 @@ class DocumentsTest {
 
     assertThat(SnapshotReader.read(snapshot).workloads()).hasSize(MANY_WORKLOADS);
   }
+
+  @Test
+  void aValueOfFiftyMegabytesIsRefusedQuickly() throws Exception {
+    Path pool =
+        write(dir, "pool.yaml", POOL.replace("name: checkout", "name: " + "a".repeat(50_000_000)));
+    PlanRun.plan(pool, write(dir, "snapshot.yaml", SNAPSHOT))
+        .assertRejected(pool, "line 4", "is longer than 1048576 characters");
+  }
 }

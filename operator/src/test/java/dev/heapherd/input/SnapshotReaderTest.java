@@ -72,7 +72,7 @@ class SnapshotReaderTest {
 
   @Test
   void reportsMalformedJsonWithLineAndColumn() throws Exception {
-    // The comma after windowSeconds is missing.
+    // The comma after windowSeconds is missing: the JSON reader points at the token after it.
     String json =
         "{\"capturedAt\": \"2026-11-30T09:00:00Z\",\n"
             + " \"windowSeconds\": 3600\n"
@@ -80,7 +80,7 @@ class SnapshotReaderTest {
     Path snapshot = write(dir, "snapshot.json", json);
 
     PlanRun.plan(write(dir, "pool.yaml", POOL), snapshot)
-        .assertRejected(snapshot, "line 3, column 13", "malformed");
+        .assertRejected(snapshot, "line 3, column 2", "malformed JSON");
   }
 
   @Test
