@@ -52,58 +52,95 @@ public final class CurveFit {
    * itself when the points span fewer than {@link #POINTS_FOR_TWO_TERMS} distinct heaps.
    */
   public static GcModel fit(GcModel calibrated, List<CurvePoint> points) {
-    if (distinctHeaps(points) < POINTS_FOR_TWO_TERMS) {
+    Generations g = calibrated.generations();
+    if (distinctHeaps(points) < POINTS_FOR_TWO_TERMS || smallestHeadroom(points, g) <= 0) {
       return calibrated;
     }
-    Generations g = calibrated.generations();
     int n = points.size();
     double[] youngX = new double[n];
     double[] youngY = new double[n];
-    double[] oldY = new double[n];
-    double smallestHeadroom = Double.MAX_VALUE;
     for (int i = 0; i < n; i++) {
       CurvePoint p = points.get(i);
       youngX[i] = 1 / (g.youngShare() * p.heapBytes());
       youngY[i] = p.youngGcSecondsPerSecond();
-      oldY[i] = p.oldGcSecondsPerSecond();
-      smallestHeadroom = Math.min(smallestHeadroom, g.oldShare() * p.heapBytes() - p.liveBytes());
-    }
-    if (smallestHeadroom <= 0) {
-      return calibrated;
     }
     Line young = nonNegativeLine(youngX, youngY);
-    long offset = calibrated.offsetBytes();
-    Line old = oldLine(points, g, offset);
-    if (distinctHeaps(points) >= POINTS_FOR_OFFSET) {
-      for (int step = 0; step < OFFSET_GRID; step++) {
-        long tried = (long) (smallestHeadroom * MAX_OFFSET_SHARE * step / OFFSET_GRID);
-        Line candidate = oldLine(points, g, tried);
-        if (candidate.residual() < old.residual()) {
-          old = candidate;
-          offset = tried;
-        }
-      }
-    }
+    OldFit old = oldTerm(points, g, calibrated.offsetBytes(), false);
     return new GcModel(
-        old.slope(),
-        offset,
-        young.intercept() + old.intercept(),
+        old.line().slope(),
+        old.offsetBytes(),
+        young.intercept() + old.line().intercept(),
         young.slope(),
         g,
         GcConstantEstimator.HISTORY_FIT);
   }
 
-  private static Line oldLine(List<CurvePoint> points, Generations g, long offset) {
+  /**
+   * Like {@link #fit}, for a collector whose young generation gets the heap old objects leave and
+   * whose young collections carry old-generation work: G1, whose regions serve either generation
+   * and which reports its mixed collections as young ones on JDK 17. The whole GC time is fitted to
+   * {@code Y + k/(oldShare*H - L - E0)} and the young term is dropped: measured on a paced service
+   * over five heaps, G1's total GC time follows that form, not {@code a/(youngShare*H)}.
+   */
+  public static GcModel fitOnOldHeadroom(GcModel calibrated, List<CurvePoint> points) {
+    Generations g = calibrated.generations();
+    if (distinctHeaps(points) < POINTS_FOR_TWO_TERMS || smallestHeadroom(points, g) <= 0) {
+      return calibrated;
+    }
+    OldFit total = oldTerm(points, g, calibrated.offsetBytes(), true);
+    return new GcModel(
+        total.line().slope(),
+        total.offsetBytes(),
+        total.line().intercept(),
+        0,
+        g,
+        GcConstantEstimator.HISTORY_FIT);
+  }
+
+  private static double smallestHeadroom(List<CurvePoint> points, Generations g) {
+    double smallest = Double.MAX_VALUE;
+    for (CurvePoint p : points) {
+      smallest = Math.min(smallest, g.oldShare() * p.heapBytes() - p.liveBytes());
+    }
+    return smallest;
+  }
+
+  /**
+   * The old term fitted to the old GC times (or, with {@code total}, to all GC time), with {@code
+   * E0} on a grid below the smallest headroom seen once the points span enough heaps.
+   */
+  private static OldFit oldTerm(
+      List<CurvePoint> points, Generations g, long calibratedOffset, boolean total) {
+    long offset = calibratedOffset;
+    Line best = oldLine(points, g, offset, total);
+    if (distinctHeaps(points) >= POINTS_FOR_OFFSET) {
+      double smallest = smallestHeadroom(points, g);
+      for (int step = 0; step < OFFSET_GRID; step++) {
+        long tried = (long) (smallest * MAX_OFFSET_SHARE * step / OFFSET_GRID);
+        Line candidate = oldLine(points, g, tried, total);
+        if (candidate.residual() < best.residual()) {
+          best = candidate;
+          offset = tried;
+        }
+      }
+    }
+    return new OldFit(best, offset);
+  }
+
+  private static Line oldLine(List<CurvePoint> points, Generations g, long offset, boolean total) {
     int n = points.size();
     double[] x = new double[n];
     double[] y = new double[n];
     for (int i = 0; i < n; i++) {
       CurvePoint p = points.get(i);
       x[i] = 1 / (g.oldShare() * p.heapBytes() - p.liveBytes() - offset);
-      y[i] = p.oldGcSecondsPerSecond();
+      y[i] = p.oldGcSecondsPerSecond() + (total ? p.youngGcSecondsPerSecond() : 0);
     }
     return nonNegativeLine(x, y);
   }
+
+  /** A fitted old term and the offset it was fitted with. */
+  private record OldFit(Line line, long offsetBytes) {}
 
   /**
    * Least squares {@code y = intercept + slope * x} with both coefficients >= 0: the unconstrained

@@ -21,6 +21,9 @@ import java.util.stream.Collectors;
 /** Joins a pool file and a snapshot into the engine's inputs and plans the pool. */
 public final class Planner {
 
+  /** The collector whose history is fitted on the old generation's headroom alone. */
+  private static final String G1 = "G1";
+
   private Planner() {}
 
   /**
@@ -83,7 +86,11 @@ public final class Planner {
     List<Workload> out = new ArrayList<>();
     for (Snapshot.Workload m : snapshot.workloads()) {
       WorkloadSettings settings = pool.settingsFor(m.name());
-      GcModel gc = CurveFit.fit(GcConstants.estimate(observation(m)), points(m));
+      GcModel calibrated = GcConstants.estimate(observation(m));
+      GcModel gc =
+          G1.equals(m.collector())
+              ? CurveFit.fitOnOldHeadroom(calibrated, points(m))
+              : CurveFit.fit(calibrated, points(m));
       out.add(
           new Workload(
               m.name(),
