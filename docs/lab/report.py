@@ -152,7 +152,9 @@ def section(summaries):
         "a rollout (the proposal; its curves are the ones plotted). Then it runs the fleet again at "
         "the same total heap under each split, every split twice in alternating order. The pool "
         "uses the product's default headroom floor (25 %) and step limit (50 %). Figures from the "
-        "project's 2-core build machine; they vary with its load."
+        "project's 2-core build machine with nothing else running: GC pauses are wall time, and any "
+        "other work on the machine stretches them (a build running beside an earlier G1 run "
+        "spread two rounds of the same split from 0.057 to 0.094 s/s)."
     )
     for s in summaries:
         c = s["collector"]
