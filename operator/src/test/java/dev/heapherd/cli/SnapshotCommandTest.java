@@ -100,4 +100,14 @@ class SnapshotCommandTest {
     assertThat(run.err()).contains("--bearer-token-file").contains("line breaks");
     assertThat(run.out() + run.err()).doesNotContain("s3cr3t").doesNotContain("second-line");
   }
+
+  @Test
+  void aPasswordInThePrometheusUrlAppearsNeitherInTheSnapshotNorInErrors() throws IOException {
+    String url = deadPrometheus().replace("http://", "http://reader:pw-9f3a-never-print@");
+    PlanRun run =
+        PlanRun.run(
+            "snapshot", "--pool", POOL.toString(), "--prometheus", url, "--timeout-seconds", "2");
+    assertThat(run.out()).contains("source: ").contains("held:");
+    assertThat(run.out() + run.err()).doesNotContain("pw-9f3a-never-print");
+  }
 }
