@@ -92,13 +92,15 @@ def plot_curves(summary, path):
     fig, axes = plt.subplots(1, len(entries), figsize=(3.2 * len(entries), 3.2), squeeze=False)
     for ax, entry in zip(axes[0], entries):
         points = measured_points(summary, entry["name"])
-        heaps = [h for h, _ in points] + [entry["currentHeapBytes"] / MIB, entry["heapBytes"] / MIB]
+        # Today's heap from the run itself: the plan's current heap is the first step's.
+        today = summary.get("todayMib", {}).get(entry["name"], entry["currentHeapBytes"] / MIB)
+        heaps = [h for h, _ in points] + [today, entry["heapBytes"] / MIB]
         low, high = min(heaps) * 0.8, max(heaps) * 1.2
         xs = [low + (high - low) * i / 100 for i in range(101)]
         ax.plot(xs, [curve(entry, x * MIB) for x in xs], color="black", label="model")
         ax.scatter([h for h, _ in points], [g for _, g in points], marker="o", facecolors="none",
                    edgecolors="black", label="measured")
-        ax.axvline(entry["currentHeapBytes"] / MIB, linestyle=":", color="grey", label="today")
+        ax.axvline(today, linestyle=":", color="grey", label="today")
         ax.axvline(entry["heapBytes"] / MIB, linestyle="--", color="black", label="proposal")
         step = summary["splitsMib"].get("first step", {}).get(entry["name"])
         if step is not None:
