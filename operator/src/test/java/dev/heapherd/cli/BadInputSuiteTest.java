@@ -7,14 +7,12 @@ import static org.assertj.core.api.Assertions.assertThat;
 import static org.junit.jupiter.api.Assertions.assertTimeoutPreemptively;
 import static org.junit.jupiter.params.provider.Arguments.arguments;
 
-import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
-import java.util.TreeMap;
 import java.util.stream.Stream;
 import org.junit.jupiter.api.io.TempDir;
 import org.junit.jupiter.params.ParameterizedTest;
@@ -33,7 +31,7 @@ class BadInputSuiteTest {
   /** A case that takes longer has hung on its input: the guard, not a speed target. */
   private static final Duration NO_HANG = Duration.ofSeconds(30);
 
-  private static final Path EXAMPLES = Path.of("..", "docs", "examples");
+  private static final Path EXAMPLES = ExampleManifests.EXAMPLES;
 
   /** The example manifest's container limit and its name, each written once. */
   private static final String LIMIT = "limits:\n              memory: 1344Mi";
@@ -165,7 +163,7 @@ class BadInputSuiteTest {
       throws Exception {
     Path pool = Files.writeString(dir.resolve("pool.yaml"), POOL);
     Path snapshot = Files.writeString(dir.resolve("snapshot.yaml"), SNAPSHOT);
-    Path manifests = copyOfExampleManifests();
+    Path manifests = ExampleManifests.copyInto(dir);
     Path output = dir.resolve("out.yaml");
     List<String> args = new ArrayList<>();
     switch (kind) {
@@ -203,7 +201,7 @@ class BadInputSuiteTest {
                 manifests.toString()));
       }
     }
-    Map<String, String> before = contents(dir);
+    Map<String, String> before = ExampleManifests.contents(dir);
 
     PlanRun run =
         assertTimeoutPreemptively(NO_HANG, () -> PlanRun.run(args.toArray(String[]::new)));
@@ -219,32 +217,6 @@ class BadInputSuiteTest {
         .doesNotContain("\tat ")
         .doesNotContain("\u001b");
     assertThat(run.err().length()).as("stderr is cut").isLessThan(2500);
-    assertThat(contents(dir)).as("no file written or changed").isEqualTo(before);
-  }
-
-  private Path copyOfExampleManifests() throws IOException {
-    Path from = EXAMPLES.resolve("manifests");
-    Path to = dir.resolve("manifests");
-    try (Stream<Path> files = Files.walk(from)) {
-      for (Path f : files.toList()) {
-        Path target = to.resolve(from.relativize(f).toString());
-        if (Files.isDirectory(f)) {
-          Files.createDirectories(target);
-        } else {
-          Files.copy(f, target);
-        }
-      }
-    }
-    return to;
-  }
-
-  private static Map<String, String> contents(Path root) throws IOException {
-    Map<String, String> out = new TreeMap<>();
-    try (Stream<Path> files = Files.walk(root)) {
-      for (Path f : files.filter(Files::isRegularFile).toList()) {
-        out.put(root.relativize(f).toString(), Files.readString(f));
-      }
-    }
-    return out;
+    assertThat(ExampleManifests.contents(dir)).as("no file written or changed").isEqualTo(before);
   }
 }

@@ -10,13 +10,11 @@ import dev.heapherd.engine.Units;
 import dev.heapherd.input.Quantity;
 import dev.heapherd.plan.PlanDocument;
 import java.io.IOException;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
-import java.util.TreeMap;
 import java.util.stream.Stream;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
@@ -710,19 +708,7 @@ class RenderCommandTest {
 
   /** A copy of the bundled example's manifests. */
   private Path example() throws IOException {
-    Path from = EXAMPLES.resolve("manifests");
-    Path to = dir.resolve("manifests");
-    try (Stream<Path> files = Files.walk(from)) {
-      for (Path f : files.toList()) {
-        Path target = to.resolve(from.relativize(f).toString());
-        if (Files.isDirectory(f)) {
-          Files.createDirectories(target);
-        } else {
-          Files.copy(f, target);
-        }
-      }
-    }
-    return to;
+    return ExampleManifests.copyInto(dir);
   }
 
   /** The example pool with {@code spec} lines added at the end of its spec. */
@@ -734,18 +720,8 @@ class RenderCommandTest {
     return Files.writeString(dir.resolve(name), text);
   }
 
-  /** Every file under {@code root}, hidden ones too, by '/' separated relative path. */
   private static Map<String, String> contents(Path root) throws IOException {
-    Map<String, String> out = new TreeMap<>();
-    try (Stream<Path> files = Files.walk(root)) {
-      for (Path f : files.filter(Files::isRegularFile).toList()) {
-        // ISO-8859-1 maps every byte to one char, so equal strings mean equal bytes.
-        out.put(
-            root.relativize(f).toString().replace('\\', '/'),
-            new String(Files.readAllBytes(f), StandardCharsets.ISO_8859_1));
-      }
-    }
-    return out;
+    return ExampleManifests.contents(root);
   }
 
   /** The Deployment or StatefulSet {@code name} in a YAML or JSON file. */
