@@ -1,5 +1,7 @@
 package dev.heapherd.input;
 
+import static dev.heapherd.engine.Units.MIB;
+
 import com.fasterxml.jackson.core.JacksonException;
 import com.fasterxml.jackson.core.JsonParser;
 import com.fasterxml.jackson.core.JsonToken;
@@ -25,7 +27,7 @@ public final class Documents {
    * Largest file read, our choice: a snapshot of 100,000 workloads is about 60 MB, so this leaves
    * room, and anything bigger (or without end, such as a device) is refused before it is read.
    */
-  public static final long MAX_FILE_BYTES = 256L << 20;
+  public static final long MAX_FILE_BYTES = 256 * MIB;
 
   private static final YAMLMapper MAPPER =
       YAMLMapper.builder(
@@ -64,7 +66,7 @@ public final class Documents {
       }
       if (Files.size(file) > MAX_FILE_BYTES) {
         throw new InputException(
-            name, "", "is larger than " + (MAX_FILE_BYTES >> 20) + " MiB; not read");
+            name, "", "is larger than " + MAX_FILE_BYTES / MIB + " MiB; not read");
       }
       text = Files.readString(file);
     } catch (NoSuchFileException e) {

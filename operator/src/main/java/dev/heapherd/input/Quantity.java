@@ -51,19 +51,7 @@ public final class Quantity {
    *     fit in a {@code long}
    */
   public static long parseBytes(String text) {
-    if (text == null) {
-      throw new IllegalArgumentException("not a quantity: null");
-    }
-    Matcher matcher = QUANTITY.matcher(text.strip());
-    if (!matcher.matches()) {
-      throw new IllegalArgumentException("not a quantity: " + quote(text));
-    }
-    BigDecimal number = new BigDecimal(matcher.group(2));
-    BigDecimal value = applySuffix(number, matcher.group(3), text);
-    if (matcher.group(1).equals("-")) {
-      value = value.negate();
-    }
-    return toLong(value, text);
+    return toLong(exactBytes(text), text);
   }
 
   /**
@@ -74,18 +62,27 @@ public final class Quantity {
    * @throws IllegalArgumentException with the reason, naming the text
    */
   public static long parseMemoryBytes(String text) {
-    long bytes = parseBytes(text);
-    Matcher matcher = QUANTITY.matcher(text.strip());
-    if (matcher.matches()) {
-      BigDecimal exact = applySuffix(new BigDecimal(matcher.group(2)), matcher.group(3), text);
-      if (exact.stripTrailingZeros().scale() > 0) {
-        throw new IllegalArgumentException(
-            matcher.group(3).equals("m")
-                ? quote(text) + " means thousandths of a byte; write Mi for mebibytes"
-                : quote(text) + " is not a whole number of bytes");
-      }
+    BigDecimal exact = exactBytes(text);
+    if (exact.stripTrailingZeros().scale() > 0) {
+      throw new IllegalArgumentException(
+          text.strip().endsWith("m")
+              ? quote(text) + " means thousandths of a byte; write Mi for mebibytes"
+              : quote(text) + " is not a whole number of bytes");
     }
-    return bytes;
+    return toLong(exact, text);
+  }
+
+  /** The quantity's exact value in bytes, with its sign. */
+  private static BigDecimal exactBytes(String text) {
+    if (text == null) {
+      throw new IllegalArgumentException("not a quantity: null");
+    }
+    Matcher matcher = QUANTITY.matcher(text.strip());
+    if (!matcher.matches()) {
+      throw new IllegalArgumentException("not a quantity: " + quote(text));
+    }
+    BigDecimal value = applySuffix(new BigDecimal(matcher.group(2)), matcher.group(3), text);
+    return matcher.group(1).equals("-") ? value.negate() : value;
   }
 
   /**
