@@ -153,7 +153,8 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
     found.forEach(w -> selected.put(w.name(), w));
     List<Pod> podsNow = pods.list(v.namespace()).toList();
     Map<String, WorkloadState> states = new LinkedHashMap<>();
-    selected.forEach((name, w) -> states.put(name, Observer.observe(w, podsNow, spec.rollout())));
+    selected.forEach(
+        (name, w) -> states.put(name, Observer.observe(w, podsNow, spec.rollout(), v.now())));
 
     Snapshot snapshot = metrics.measure(spec, v.namespace(), selected.keySet(), v.now());
     String metricsHeld = v.metricsCondition(spec, snapshot, selected.size());

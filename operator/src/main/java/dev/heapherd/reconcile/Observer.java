@@ -35,12 +35,23 @@ public final class Observer {
   /** The kubelet's waiting reason for a container that keeps failing. */
   static final String CRASH_LOOP = "CrashLoopBackOff";
 
+  /**
+   * How long every pod of a changed workload must have been Ready before its rollout counts as
+   * finished. The Deployment controller calls a pod available the moment it is Ready; a JVM given
+   * too little memory can pass its first probe and be OOMKilled a second later, and once the
+   * rollout is finished its failures are no longer heapherd's to roll back. Our choice: a JVM that
+   * cannot live with its new sizes usually fails within seconds of start-up; this leaves room for
+   * start-up load and the first collections of a slow machine.
+   */
+  static final long SETTLE_SECONDS = 30;
+
   private static final int FINGERPRINT_HEX = 16;
 
   private Observer() {}
 
-  /** The planner's view of {@code w}; {@code pods} are the pods of its namespace. */
-  public static WorkloadState observe(PoolWorkload w, List<Pod> pods, PoolFile.Rollout rollout) {
+  /** The planner's view of {@code w} at {@code now}; {@code pods} are the pods of its namespace. */
+  public static WorkloadState observe(
+      PoolWorkload w, List<Pod> pods, PoolFile.Rollout rollout, Instant now) {
     PodTemplates.MemorySettings m =
         PodTemplates.read(w.template(), rollout.containerName(), rollout.jvmOptionsVariable())
             .orElseThrow(() -> new IllegalArgumentException("no container in " + w.name()));
@@ -65,7 +76,7 @@ public final class Observer {
         m.heapBytes().orElse(0),
         "true".equalsIgnoreCase(w.annotations().get(Annotations.OPT_OUT)),
         inFlight,
-        w.rolloutDone() && !terminating(w, pods),
+        w.rolloutDone() && !terminating(w, pods) && settled(w, pods, now),
         failure,
         fingerprint(w.template()).equals(w.annotations().get(Annotations.ROLLED_BACK)),
         instant(w.annotations().get(Annotations.CHANGED_AT)));
@@ -114,7 +125,6 @@ public final class Observer {
     return String.valueOf(Quantity.parseBytes(map.get("memory").toString()));
   }
 
-  /** Why a pod running heapherd's template failed, if one did. */
   /**
    * A pod of {@code w} is still shutting down. The workload's controller no longer counts it once
    * its replacement is ready, but it holds its memory until it exits: the rollout is not done until
@@ -128,6 +138,32 @@ public final class Observer {
                     && w.selects(p.getMetadata().getLabels()));
   }
 
+  /**
+   * At least as many of {@code w}'s pods as it wants have been Ready for {@link #SETTLE_SECONDS}. A
+   * container that restarts turns its pod unready, so the clock starts again.
+   */
+  private static boolean settled(PoolWorkload w, List<Pod> pods, Instant now) {
+    Instant readyBefore = now.minusSeconds(SETTLE_SECONDS);
+    long settled =
+        pods.stream()
+            .filter(p -> w.selects(p.getMetadata().getLabels()))
+            .filter(p -> p.getMetadata().getDeletionTimestamp() == null)
+            .filter(p -> readySince(p).map(t -> !t.isAfter(readyBefore)).orElse(false))
+            .count();
+    return settled >= w.replicas();
+  }
+
+  private static Optional<Instant> readySince(Pod pod) {
+    if (pod.getStatus() == null || pod.getStatus().getConditions() == null) {
+      return Optional.empty();
+    }
+    return pod.getStatus().getConditions().stream()
+        .filter(c -> "Ready".equals(c.getType()) && "True".equals(c.getStatus()))
+        .findFirst()
+        .flatMap(c -> instant(c.getLastTransitionTime()));
+  }
+
+  /** Why a pod running heapherd's template failed, if one did. */
   private static Optional<String> failure(
       PoolWorkload w, List<Pod> pods, PodTemplates.MemorySettings m, String variable) {
     for (Pod pod : pods) {

@@ -16,6 +16,7 @@ import io.fabric8.kubernetes.api.model.PodTemplateSpec;
 import io.fabric8.kubernetes.api.model.apps.Deployment;
 import io.fabric8.kubernetes.api.model.apps.StatefulSet;
 import io.fabric8.kubernetes.client.utils.KubernetesSerialization;
+import java.time.Instant;
 import java.util.List;
 import java.util.Optional;
 
@@ -95,8 +96,8 @@ final class WorkloadReader {
       ManifestWorkload f, List<ManifestFile> files, PoolFile.Rollout rollout)
       throws InputException {
     try {
-      // No pods: a manifest shows no rollout in progress, so none can be failing.
-      return Observer.observe(f.workload(), List.of(), rollout);
+      // No pods: a manifest shows no rollout in progress, so none can be failing or finish.
+      return Observer.observe(f.workload(), List.of(), rollout, Instant.EPOCH);
     } catch (IllegalArgumentException | IndexOutOfBoundsException e) {
       // A size or surge that does not parse; the API server would refuse it too.
       ManifestFile file = files.get(f.file());

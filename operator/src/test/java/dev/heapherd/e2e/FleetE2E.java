@@ -38,6 +38,7 @@ import java.util.concurrent.ScheduledExecutorService;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicInteger;
 import java.util.concurrent.atomic.AtomicLong;
+import org.awaitility.core.ConditionTimeoutException;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.MethodOrderer;
@@ -85,6 +86,9 @@ class FleetE2E {
   private static HeapPoolStatus.Proposal approved;
 
   private static double gcBefore;
+
+  /** Lines of each operator log a failed wait prints: enough for the last few visits. */
+  private static final int OPERATOR_LOG_LINES = 40;
 
   /** How often pod memory is sampled while the pool rolls. */
   private static final long SAMPLE_MILLIS = 200;
@@ -150,17 +154,17 @@ class FleetE2E {
   @Order(1)
   void aDryRunPoolPublishesAProposalAndChangesNothing() throws Exception {
     client.resource(pool(NS, POOL, "DryRun", BUDGET_MIB + "Mi", "")).create();
-    await()
-        .atMost(MEASURED)
-        .pollInterval(Duration.ofSeconds(2))
-        .until(
-            () -> {
-              HeapPool p = heapPool(NS, POOL);
-              return p != null
-                  && p.getStatus() != null
-                  && p.getStatus().proposal != null
-                  && p.getStatus().proposal.workloads.size() == SERVICES.size();
-            });
+    awaitPool(
+        NS,
+        POOL,
+        MEASURED,
+        () -> {
+          HeapPool p = heapPool(NS, POOL);
+          return p != null
+              && p.getStatus() != null
+              && p.getStatus().proposal != null
+              && p.getStatus().proposal.workloads.size() == SERVICES.size();
+        });
     HeapPool p = heapPool(NS, POOL);
     approved = p.getStatus().proposal;
     assertThat(approved.hash).matches("[0-9a-f]{16}");
@@ -212,10 +216,7 @@ class FleetE2E {
     // Kill the operator as soon as the first workload rolls; its replacement must finish the job.
     await().atMost(ROLLED).until(() -> rolling(NS) > 0);
     client.pods().inNamespace(Chart.NAMESPACE).withName(operatorPod).withGracePeriod(0).delete();
-    await()
-        .atMost(ROLLED)
-        .pollInterval(Duration.ofSeconds(2))
-        .until(FleetE2E::approvedProposalRunning);
+    awaitPool(NS, POOL, ROLLED, FleetE2E::approvedProposalRunning);
     sampler.shutdownNow();
     assertThat(sampler.awaitTermination(10, TimeUnit.SECONDS)).isTrue();
     assertThat(samples.get()).as("memory samples taken during the rollout").isGreaterThan(10);
@@ -259,19 +260,21 @@ class FleetE2E {
   @Order(4)
   void withPrometheusStoppedPoolsHoldAndSayWhyThenResume() throws Exception {
     prometheus.stop();
-    await()
-        .atMost(Duration.ofMinutes(2))
-        .pollInterval(Duration.ofSeconds(2))
-        .until(() -> "MetricsUnavailable".equals(reason(heapPool(NS, POOL), "Ready")));
+    awaitPool(
+        NS,
+        POOL,
+        Duration.ofMinutes(2),
+        () -> "MetricsUnavailable".equals(reason(heapPool(NS, POOL), "Ready")));
     Condition metrics = condition(heapPool(NS, POOL), "MetricsAvailable");
     assertThat(metrics.getStatus()).isEqualTo("False");
     assertThat(metrics.getMessage()).isNotBlank();
     assertThat(rolling(NS)).isZero();
     prometheus.launch();
-    await()
-        .atMost(Duration.ofMinutes(3))
-        .pollInterval(Duration.ofSeconds(2))
-        .until(() -> "True".equals(condition(heapPool(NS, POOL), "MetricsAvailable").getStatus()));
+    awaitPool(
+        NS,
+        POOL,
+        Duration.ofMinutes(3),
+        () -> "True".equals(condition(heapPool(NS, POOL), "MetricsAvailable").getStatus()));
   }
 
   @Test
@@ -286,22 +289,22 @@ class FleetE2E {
                 "330Mi",
                 "  defaults:\n    heapCeiling: 64Mi\n    limitMargin: \"0\"\n    maxStepPercent: 300\n  rollout:\n    approval: Automatic\n"))
         .create();
-    await()
-        .atMost(ROLLED)
-        .pollInterval(Duration.ofSeconds(2))
-        .until(
-            () -> {
-              var a =
-                  client
-                      .apps()
-                      .deployments()
-                      .inNamespace(OOM_NS)
-                      .withName("manifest-printer")
-                      .get()
-                      .getMetadata()
-                      .getAnnotations();
-              return a != null && a.containsKey(Annotations.ROLLED_BACK);
-            });
+    awaitPool(
+        OOM_NS,
+        "printing",
+        ROLLED,
+        () -> {
+          var a =
+              client
+                  .apps()
+                  .deployments()
+                  .inNamespace(OOM_NS)
+                  .withName("manifest-printer")
+                  .get()
+                  .getMetadata()
+                  .getAnnotations();
+          return a != null && a.containsKey(Annotations.ROLLED_BACK);
+        });
     HeapPool p = heapPool(OOM_NS, "printing");
     assertThat(p.getStatus().history)
         .anySatisfy(
@@ -315,15 +318,15 @@ class FleetE2E {
     assertThat(client.v1().events().inNamespace(OOM_NS).list().getItems())
         .anySatisfy(e -> assertThat(e.getReason()).isEqualTo("RolloutRolledBack"));
     // Its only workload is held now, so there is nothing to plan; the condition says why.
-    await()
-        .atMost(ROLLED)
-        .pollInterval(Duration.ofSeconds(2))
-        .until(
-            () -> {
-              Condition c = condition(heapPool(OOM_NS, "printing"), "ProposalReady");
-              return c.getStatus().equals("False")
-                  && c.getMessage().contains("manifest-printer (rolled back");
-            });
+    awaitPool(
+        OOM_NS,
+        "printing",
+        ROLLED,
+        () -> {
+          Condition c = condition(heapPool(OOM_NS, "printing"), "ProposalReady");
+          return c.getStatus().equals("False")
+              && c.getMessage().contains("manifest-printer (rolled back");
+        });
   }
 
   // --- set-up ---
@@ -426,6 +429,87 @@ class FleetE2E {
       }
     }
     return true;
+  }
+
+  /** Waits for {@code done}; when it times out, the failure carries the pool's report. */
+  private static void awaitPool(
+      String ns, String name, Duration atMost, java.util.concurrent.Callable<Boolean> done) {
+    try {
+      await().atMost(atMost).pollInterval(Duration.ofSeconds(2)).until(done);
+    } catch (ConditionTimeoutException e) {
+      throw new AssertionError("not done within " + atMost + ":\n" + poolReport(ns, name), e);
+    }
+  }
+
+  /**
+   * What a failed wait needs to be understood: the pool's conditions and history, each workload.
+   */
+  private static String poolReport(String ns, String name) {
+    StringBuilder text = new StringBuilder();
+    HeapPool p = heapPool(ns, name);
+    if (p != null && p.getStatus() != null) {
+      p.getStatus()
+          .conditions
+          .forEach(
+              c ->
+                  text.append("condition ")
+                      .append(c.getType())
+                      .append('=')
+                      .append(c.getStatus())
+                      .append(' ')
+                      .append(c.getReason())
+                      .append(": ")
+                      .append(c.getMessage())
+                      .append('\n'));
+      p.getStatus()
+          .history
+          .forEach(
+              a ->
+                  text.append("history ")
+                      .append(a.time)
+                      .append(' ')
+                      .append(a.workload)
+                      .append(' ')
+                      .append(a.action)
+                      .append(": ")
+                      .append(a.message)
+                      .append('\n'));
+    }
+    for (Deployment d : client.apps().deployments().inNamespace(ns).list().getItems()) {
+      text.append("deployment ")
+          .append(d.getMetadata().getName())
+          .append(" options=")
+          .append(options(d))
+          .append(" annotations=")
+          .append(d.getMetadata().getAnnotations())
+          .append(" status=")
+          .append(d.getStatus())
+          .append('\n');
+    }
+    for (Pod pod : client.pods().inNamespace(ns).list().getItems()) {
+      text.append("pod ")
+          .append(pod.getMetadata().getName())
+          .append(' ')
+          .append(pod.getStatus() == null ? "" : pod.getStatus().getContainerStatuses())
+          .append('\n');
+    }
+    // The operator pods' logs, as the node agent keeps them: the last lines of each.
+    try (var files = Files.walk(work.resolve("agent"))) {
+      for (Path log :
+          files
+              .filter(f -> f.getFileName().toString().endsWith(".log"))
+              .filter(f -> f.getParent().getFileName().toString().contains("heapherd"))
+              .toList()) {
+        List<String> lines = Files.readAllLines(log);
+        text.append("log ").append(log).append('\n');
+        lines
+            .subList(Math.max(0, lines.size() - OPERATOR_LOG_LINES), lines.size())
+            .forEach(l -> text.append("  ").append(l).append('\n'));
+      }
+    } catch (java.io.IOException | java.io.UncheckedIOException e) {
+      text.append("operator logs unreadable: ").append(e.getMessage()).append('\n');
+    }
+    return text.toString();
   }
 
   private static HeapPool heapPool(String ns, String name) {

@@ -8,6 +8,7 @@ import io.fabric8.kubernetes.api.model.apps.Deployment;
 import io.fabric8.kubernetes.api.model.apps.DeploymentStatusBuilder;
 import io.fabric8.kubernetes.client.KubernetesClient;
 import io.fabric8.kubernetes.client.utils.KubernetesSerialization;
+import java.time.Instant;
 import java.util.List;
 import java.util.UUID;
 import java.util.function.LongConsumer;
@@ -23,6 +24,9 @@ final class FakeWorkloadController {
 
   private final KubernetesClient client;
   private final String namespace;
+
+  /** How long ago the pods this controller starts turned Ready: past the operator's settle time. */
+  private static final long READY_AGO_SECONDS = 2 * Observer.SETTLE_SECONDS;
 
   FakeWorkloadController(KubernetesClient client, String namespace) {
     this.client = client;
@@ -133,6 +137,18 @@ final class FakeWorkloadController {
                   .build());
     }
     builder.editStatus().withContainerStatuses(status.build()).endStatus();
+    if (terminatedReason == null) {
+      // Ready since before the operator's settle time: these tests are about the order of steps;
+      // ObserverTest and FleetE2E cover how long a pod must have been ready.
+      builder
+          .editStatus()
+          .addNewCondition()
+          .withType("Ready")
+          .withStatus("True")
+          .withLastTransitionTime(Instant.now().minusSeconds(READY_AGO_SECONDS).toString())
+          .endCondition()
+          .endStatus();
+    }
     client.pods().inNamespace(namespace).resource(builder.build()).create();
   }
 

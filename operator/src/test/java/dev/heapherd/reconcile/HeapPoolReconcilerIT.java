@@ -311,6 +311,13 @@ class HeapPoolReconcilerIT {
             .getEnv()
             .get(0)
             .getValue();
+    // The workload is written before the pool's status; stop once both are, as a crash would.
+    await()
+        .atMost(WAIT)
+        .until(
+            () ->
+                pool().getStatus().history.stream()
+                    .anyMatch(a -> a.workload.equals(name) && a.action.startsWith("Heap")));
     operator.close();
     operator = null;
 

@@ -38,6 +38,9 @@ class ObserverTest {
   private static final Map<String, String> SELECTOR = Map.of("app", "quote-api");
   private static final long GENERATION = 7L;
 
+  /** The moment every observation in these tests is made. */
+  private static final Instant NOW = Instant.parse("2026-12-02T08:00:00Z");
+
   private static final PoolFile.Rollout ROLLOUT =
       new PoolFile.Rollout("app", VARIABLE, false, false, false, 1, 3600, 5, 600, List.of());
 
@@ -113,7 +116,7 @@ class ObserverTest {
   }
 
   private static WorkloadState observe(DeploymentBuilder d, Pod... pods) {
-    return Observer.observe(new PoolWorkload(d.build()), List.of(pods), ROLLOUT);
+    return Observer.observe(new PoolWorkload(d.build()), List.of(pods), ROLLOUT, NOW);
   }
 
   private static Pod pod(
@@ -300,22 +303,71 @@ class ObserverTest {
             .endSpec()
             .build();
 
-    WorkloadState s = Observer.observe(new PoolWorkload(set), List.of(), ROLLOUT);
+    WorkloadState s = Observer.observe(new PoolWorkload(set), List.of(), ROLLOUT, NOW);
 
     assertThat(s.replicas()).isEqualTo(3);
     assertThat(s.surgePods()).isZero();
   }
 
+  /** The deployment's four pods on the new template, each Ready since {@code secondsAgo}. */
+  private static Pod[] readyFor(long... secondsAgo) {
+    Pod[] pods = new Pod[secondsAgo.length];
+    for (int i = 0; i < pods.length; i++) {
+      pods[i] =
+          new PodBuilder(pod("quote-api-6b7f9-p" + i, SELECTOR, NEW_OPTIONS, running()))
+              .editStatus()
+              .addNewCondition()
+              .withType("Ready")
+              .withStatus("True")
+              .withLastTransitionTime(NOW.minusSeconds(secondsAgo[i]).toString())
+              .endCondition()
+              .endStatus()
+              .build();
+    }
+    return pods;
+  }
+
+  private static final long SETTLED = Observer.SETTLE_SECONDS;
+
   @Test
-  void rolloutIsDoneWhenEveryPodIsUpdatedAndAvailable() {
-    assertThat(observe(quoteApi()).rolloutDone()).isTrue();
+  void rolloutIsDoneWhenEveryPodIsUpdatedAvailableAndReadyLongEnough() {
+    assertThat(observe(quoteApi(), readyFor(SETTLED, SETTLED, 90, 400)).rolloutDone()).isTrue();
+  }
+
+  @Test
+  void rolloutIsNotDoneWhileAPodIsFreshlyReady() {
+    // The controller calls the pod available at once; a JVM short of memory may die a second later.
+    assertThat(observe(quoteApi(), readyFor(SETTLED, SETTLED, SETTLED, SETTLED - 1)).rolloutDone())
+        .isFalse();
+  }
+
+  @Test
+  void rolloutIsNotDoneWithFewerSettledPodsThanReplicas() {
+    assertThat(observe(quoteApi(), readyFor(90, 90, 90)).rolloutDone()).isFalse();
+    assertThat(observe(quoteApi()).rolloutDone()).as("no pods seen yet").isFalse();
+  }
+
+  @Test
+  void aPodThatIsNotReadyDoesNotCountAsSettled() {
+    Pod unready =
+        new PodBuilder(readyFor(90)[0])
+            .editStatus()
+            .editFirstCondition()
+            .withStatus("False")
+            .endCondition()
+            .endStatus()
+            .build();
+    Pod[] pods = readyFor(90, 90, 90, 90);
+    pods[3] = unready;
+
+    assertThat(observe(quoteApi(), pods).rolloutDone()).isFalse();
   }
 
   @Test
   void rolloutIsNotDoneBeforeTheControllerSawTheNewGeneration() {
     var d = quoteApi().editStatus().withObservedGeneration(GENERATION - 1).endStatus();
 
-    assertThat(observe(d).rolloutDone()).isFalse();
+    assertThat(observe(d, readyFor(90, 90, 90, 90)).rolloutDone()).isFalse();
   }
 
   @Test
@@ -335,8 +387,16 @@ class ObserverTest {
             .endMetadata()
             .build();
 
-    assertThat(observe(quoteApi(), leaving).rolloutDone()).isFalse();
-    assertThat(observe(quoteApi(), elsewhere).rolloutDone()).isTrue();
+    Pod[] settled = readyFor(90, 90, 90, 90);
+
+    assertThat(observe(quoteApi(), concat(settled, leaving)).rolloutDone()).isFalse();
+    assertThat(observe(quoteApi(), concat(settled, elsewhere)).rolloutDone()).isTrue();
+  }
+
+  private static Pod[] concat(Pod[] pods, Pod more) {
+    Pod[] all = java.util.Arrays.copyOf(pods, pods.length + 1);
+    all[pods.length] = more;
+    return all;
   }
 
   @Test
@@ -344,8 +404,8 @@ class ObserverTest {
     var surging = quoteApi().editStatus().withReplicas(5).withUpdatedReplicas(2).endStatus();
     var unavailable = quoteApi().editStatus().withAvailableReplicas(3).endStatus();
 
-    assertThat(observe(surging).rolloutDone()).isFalse();
-    assertThat(observe(unavailable).rolloutDone()).isFalse();
+    assertThat(observe(surging, readyFor(90, 90, 90, 90)).rolloutDone()).isFalse();
+    assertThat(observe(unavailable, readyFor(90, 90, 90, 90)).rolloutDone()).isFalse();
   }
 
   @Test
