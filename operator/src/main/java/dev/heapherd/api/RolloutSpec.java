@@ -44,7 +44,9 @@ public class RolloutSpec {
   @Max(PoolFileReader.MAX_SECONDS)
   public Long cooldownSeconds;
 
-  @JsonPropertyDescription("Skip heap changes smaller than this percent of the current heap.")
+  @JsonPropertyDescription(
+      "Skip a change when both the heap and the container limit move by less than this"
+          + " percent of their current values.")
   @Min(0)
   @Max(100)
   public Long changeThresholdPercent;

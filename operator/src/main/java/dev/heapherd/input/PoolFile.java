@@ -40,7 +40,7 @@ public record PoolFile(
    * @param automaticApproval apply any proposal, not only the approved hash
    * @param maxRollingWorkloads workloads of the pool rolling at one time
    * @param cooldownSeconds a workload is left alone this long after its last change
-   * @param changeThresholdPercent heap changes smaller than this are skipped
+   * @param changeThresholdPercent changes where heap and limit both move less than this are skipped
    * @param metricsMaxAgeSeconds hold when the newest measurement is older
    * @param freezeWindows periods in which no change starts
    */

@@ -260,8 +260,9 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
               return s != null
                   && !s.optedOut()
                   && !s.rolledBack()
-                  && RolloutPlanner.heapChangePercent(s, e.getValue())
-                      >= spec.rollout().changeThresholdPercent();
+                  && RolloutPlanner.belowThreshold(
+                          s, e.getValue(), spec.rollout().changeThresholdPercent())
+                      .isEmpty();
             });
   }
 

@@ -14,8 +14,8 @@ import java.util.Collection;
 import java.util.Comparator;
 import java.util.LinkedHashMap;
 import java.util.List;
-import java.util.Locale;
 import java.util.Map;
+import java.util.Optional;
 import java.util.Set;
 import java.util.stream.Collectors;
 
@@ -82,20 +82,16 @@ final class WorkloadDecider {
         kept.add(new Renderer.Kept(name, "held: " + held.get(name)));
         continue;
       }
-      double percent = RolloutPlanner.heapChangePercent(state, target);
-      if (percent == 0 && rollout.changeThresholdPercent() > 0) {
+      if (RolloutPlanner.heapChangePercent(state, target) == 0
+          && RolloutPlanner.limitChangePercent(state, target) == 0
+          && rollout.changeThresholdPercent() > 0) {
         kept.add(new Renderer.Kept(name, "already has the proposed heap"));
         continue;
       }
-      if (percent < rollout.changeThresholdPercent()) {
-        kept.add(
-            new Renderer.Kept(
-                name,
-                String.format(
-                    Locale.ROOT,
-                    "a %.1f%% heap change is below the %d%% threshold",
-                    percent,
-                    rollout.changeThresholdPercent())));
+      Optional<String> small =
+          RolloutPlanner.belowThreshold(state, target, rollout.changeThresholdPercent());
+      if (small.isPresent()) {
+        kept.add(new Renderer.Kept(name, small.get()));
         continue;
       }
       PodTemplateSpec template = f.workload().template();

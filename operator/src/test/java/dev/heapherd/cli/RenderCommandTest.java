@@ -57,7 +57,8 @@ class RenderCommandTest {
         .contains("WORKLOAD")
         .contains("1Gi -> 1.50Gi")
         .contains(manifests.resolve("warehouse-sync.yaml").toString())
-        .contains("Unchanged: driver-app-api: a 0.4% heap change is below the 5% threshold")
+        .contains(
+            "Unchanged: driver-app-api: a 0.5% limit change (heap 0.4%) is below the 5% threshold")
         .contains("Caution: " + PlanDocument.CAUTION);
     JsonNode sync = container(manifests.resolve("warehouse-sync.yaml"), "warehouse-sync", "app");
     assertThat(options(sync)).isEqualTo(SYNC_OPTIONS_AFTER);
@@ -298,7 +299,8 @@ class RenderCommandTest {
     // small cut stays below the threshold, which leaves too little room for rate-quoter to grow.
     assertThat(run.out())
         .contains("Unchanged: route-planner: held: opted out by annotation")
-        .contains("Unchanged: billing-ledger: a 4.2% heap change is below the 5% threshold")
+        .contains(
+            "Unchanged: billing-ledger: a 4.8% limit change (heap 4.2%) is below the 5% threshold")
         .contains("Unchanged: rate-quoter: growing it would take the pool's pods to 72.62Gi,");
     assertThat(memoryOfAllPods(manifests)).isLessThanOrEqualTo(BUDGET_BYTES);
   }

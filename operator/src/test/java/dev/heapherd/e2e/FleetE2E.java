@@ -411,13 +411,28 @@ class FleetE2E {
 
   /** The approved proposal's heaps are in every template and every rollout has finished. */
   private static boolean approvedProposalRunning() {
+    HeapPool pool = heapPool(NS, POOL);
+    if (pool == null || pool.getStatus() == null) {
+      return false;
+    }
+    Condition rolling =
+        pool.getStatus().conditions.stream()
+            .filter(c -> c.getType().equals("RolloutInProgress"))
+            .findFirst()
+            .orElse(null);
+    if (rolling == null || !"False".equals(rolling.getStatus())) {
+      return false;
+    }
     for (var w : approved.workloads) {
       Deployment d = client.apps().deployments().inNamespace(NS).withName(w.name).get();
       var a = d.getMetadata().getAnnotations();
       if (a != null && a.containsKey(Annotations.ROLLOUT)) {
         return false;
       }
-      if (JvmOptions.maxHeapBytes(options(d)).orElse(0) != Quantity.parseBytes(w.proposedHeap)) {
+      // A change under the threshold stays unrolled by design; the operator names it so.
+      boolean skipped = rolling.getMessage().contains(w.name + ": BelowThreshold");
+      if (!skipped
+          && JvmOptions.maxHeapBytes(options(d)).orElse(0) != Quantity.parseBytes(w.proposedHeap)) {
         return false;
       }
       var s = d.getStatus();

@@ -460,6 +460,29 @@ class RolloutPlannerTest {
   }
 
   @Test
+  void aLimitChangeAtTheThresholdStartsThoughTheHeapBarelyMoves() {
+    // A new limit margin: the heap moves 0.4%, the limit 1280 -> 1100 MiB (14.1%). Holding it
+    // would keep 180 MiB the plan gave to others, and their growth could never fit the budget.
+    Service quoteApi = service("quote-api").heap(1000).limit(1280);
+
+    assertThat(decide(quoteApi, target(996, 1100), rails()))
+        .containsExactly(start("quote-api", 996, 1100, false));
+  }
+
+  @Test
+  void aSmallLimitChangeIsNamedWhenItIsTheLargerOne() {
+    Service quoteApi = service("quote-api").heap(1000).limit(1280);
+
+    // Heap 1000 -> 1004 MiB is 0.4%, limit 1280 -> 1320 MiB is 3.1%: both under 5%.
+    assertThat(decide(quoteApi, target(1004, 1320), rails()))
+        .containsExactly(
+            hold(
+                "quote-api",
+                Rail.BelowThreshold,
+                "a 3.1% limit change (heap 0.4%) is below the 5% threshold"));
+  }
+
+  @Test
   void aWorkloadWithoutAHeapFlagIsNeverBelowTheThreshold() {
     Service quoteApi = service("quote-api").heap(0).limit(1280);
 
