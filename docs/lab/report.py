@@ -150,8 +150,9 @@ def section(summaries):
     out.append(
         "`./dev.sh lab` runs five real open-source libraries as paced services (e2e/lab), measures "
         "them with the real Prometheus and plans them (the first step). It rolls the first step "
-        "out, measures again and plans with today's points as history, as the operator does after "
-        "a rollout (the proposal; its curves are the ones plotted). Then it runs the fleet again at "
+        "out, measures again and plans with every earlier point as history, as the operator does "
+        "after a rollout, and repeats that for each learning step (the last plan is the proposal; "
+        "its curves are the ones plotted). Then it runs the fleet again at "
         "the same total heap under each split, every split twice in alternating order. The pool "
         "uses the product's default headroom floor (25 %) and step limit (50 %). Figures from the "
         "project's 2-core build machine with nothing else running: GC pauses are wall time, and any "
@@ -173,6 +174,16 @@ def section(summaries):
             out.append(
                 f"The first step, planned from today's heaps alone: predicted "
                 f"{s['firstStepPredictedChange']:+.1%}, measured {s['firstStepMeasuredChange']:+.1%}."
+            )
+        steps = s.get("learningSteps", [])
+        if steps:
+            out.append(
+                "Learning steps (heaps rolled, pool GC s/s measured while learning): "
+                + "; ".join(
+                    f"{i + 1}: {', '.join(f'{a} {int(m)}' for a, m in sorted(st['heapsMib'].items()))}"
+                    f" at {st['poolGcSecondsPerSecond']:.4f}"
+                    for i, st in enumerate(steps))
+                + "."
             )
         out += ["", f"![{c} curves](lab/{c}-curves.png)", ""]
     out += ["![pool GC time per split](lab/pool.png)", "", END]

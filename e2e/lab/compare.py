@@ -3,8 +3,9 @@
 
 For each collector: run the lab's real applications at today's heaps, measure them with the real
 Prometheus and `heapherd snapshot`, plan with `heapherd plan` (the first step). Roll the first step
-out: run the fleet at its heaps, measure again and plan from there with today's points as history,
-as the operator does after a rollout (the proposal). Then run the fleet again at the same total
+out: run the fleet at its heaps, measure again and plan from there with every earlier point as
+history, as the operator does after a rollout; repeat for --learning-steps rollouts (the last plan
+is the proposal). Then run the fleet again at the same total
 heap under the linear rule, an equal split, both steps and a small grid of splits around the
 proposal, each twice in alternating order, and compare the pool's measured GC time. Writes
 results as JSON and the plots and tables of docs/benchmarks.md.
@@ -190,8 +191,6 @@ def grid_splits(proposal_mib, floor_mib):
 def lab(collector, args, work):
     work.mkdir(parents=True, exist_ok=True)
     today_snapshot = work / "snapshot.yaml"
-    step_snapshot = work / "snapshot-first-step.yaml"
-    learned_snapshot = work / "snapshot-learned.yaml"
     pool_file = work / "pool.yaml"
 
     def snapshot_to(path):
@@ -223,13 +222,24 @@ def lab(collector, args, work):
     first_entries = {w["name"]: w for w in first["workloads"]}
     first_step = {a: first_entries[a]["heapBytes"] / MIB for a in first_entries}
 
-    # The rollout of the first step: measured at its heaps, planned again with today's points.
-    log(f"{collector}: first step rolled out: {heaps_arg(first_step)}")
-    run_fleet(collector, first_step, args, work / "first-step.json", snapshot_to(step_snapshot))
-    with_history(step_snapshot, today_snapshot, learned_snapshot)
-    plan = plan_json(learned_snapshot)
-    (work / "plan.json").write_text(json.dumps(plan, indent=2))
-    sys.stderr.write(heapherd("plan", "--pool", str(pool_file), "--snapshot", str(learned_snapshot)))
+    # Each rollout: measured at the last plan's heaps, planned again with every earlier point.
+    learned_snapshot = today_snapshot
+    rolled = first_step
+    steps = []
+    for step in range(1, args.learning_steps + 1):
+        log(f"{collector}: step {step} rolled out: {heaps_arg(rolled)}")
+        step_snapshot = work / f"snapshot-step-{step}.yaml"
+        step_run = run_fleet(
+            collector, rolled, args, work / f"step-{step}.json", snapshot_to(step_snapshot))
+        earlier = learned_snapshot
+        learned_snapshot = work / f"snapshot-learned-{step}.yaml"
+        with_history(step_snapshot, earlier, learned_snapshot)
+        plan = plan_json(learned_snapshot)
+        (work / f"plan-step-{step}.json").write_text(json.dumps(plan, indent=2))
+        sys.stderr.write(
+            heapherd("plan", "--pool", str(pool_file), "--snapshot", str(learned_snapshot)))
+        steps.append({"heapsMib": rolled, "poolGcSecondsPerSecond": pool_gc(step_run)})
+        rolled = {w["name"]: w["heapBytes"] / MIB for w in plan["workloads"]}
     entries = {w["name"]: w for w in plan["workloads"]}
     proposal = {a: entries[a]["heapBytes"] / MIB for a in entries}
     linear = {a: first_entries[a]["comparison"]["linearRuleHeapBytes"] / MIB for a in entries}
@@ -277,6 +287,7 @@ def lab(collector, args, work):
         "proposalWithinGridTolerance": measured["proposal"] <= grid_best * (1 + GRID_TOLERANCE),
         "predictionWithinTolerance": abs(predicted_change - measured_change)
         <= PREDICTION_TOLERANCE * abs(measured_change),
+        "learningSteps": steps,
         "firstStepPlan": first,
         "plan": plan,
         "today": today,
@@ -293,6 +304,8 @@ def main():
     parser.add_argument("--measure-seconds", type=int, default=60)
     parser.add_argument("--hold-seconds", type=int, default=30)
     parser.add_argument("--rounds", type=int, default=2)
+    # Rollouts measured before the proposal: each adds a heap point per workload to fit.
+    parser.add_argument("--learning-steps", type=int, default=3)
     parser.add_argument("--work", default=str(ROOT / "e2e" / "lab" / "target" / "lab-runs"))
     parser.add_argument("--results", default=str(ROOT / "docs" / "lab"))
     args = parser.parse_args()
