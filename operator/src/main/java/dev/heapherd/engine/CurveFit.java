@@ -7,7 +7,10 @@ import java.util.List;
  * Fits a workload's curve to the points of earlier heaps by bounded (non-negative) least squares:
  * the young part {@code Yy + a/(youngShare*H)} to the young GC times and the old part {@code Yo +
  * k/(oldShare*H - L - E0)} to the rest, each over {@code Yy, a, Yo, k >= 0}, and {@code E0} over a
- * grid below the smallest old headroom seen. Pure: no I/O.
+ * grid below the smallest old headroom seen. {@code L} is the one live size the curve is evaluated
+ * with, not each point's own: the live estimate of a point drifts with its heap (a larger heap is
+ * collected later and floats more garbage), and a curve fitted on one live but read with another
+ * misses its own points, most of all at the smallest heaps. Pure: no I/O.
  */
 public final class CurveFit {
 
@@ -48,12 +51,16 @@ public final class CurveFit {
   }
 
   /**
-   * The curve fitted to {@code points}, keeping {@code calibrated}'s shares; {@code calibrated}
-   * itself when the points span fewer than {@link #POINTS_FOR_TWO_TERMS} distinct heaps.
+   * The curve fitted to {@code all}, keeping {@code calibrated}'s shares; {@code calibrated} itself
+   * when the points whose old generation holds more than {@code liveBytes} span fewer than {@link
+   * #POINTS_FOR_TWO_TERMS} distinct heaps.
+   *
+   * @param liveBytes the live size the curve is read with (the workload's latest)
    */
-  public static GcModel fit(GcModel calibrated, List<CurvePoint> points) {
+  public static GcModel fit(GcModel calibrated, List<CurvePoint> all, long liveBytes) {
     Generations g = calibrated.generations();
-    if (distinctHeaps(points) < POINTS_FOR_TWO_TERMS || smallestHeadroom(points, g) <= 0) {
+    List<CurvePoint> points = aboveLive(all, g, liveBytes);
+    if (distinctHeaps(points) < POINTS_FOR_TWO_TERMS) {
       return calibrated;
     }
     int n = points.size();
@@ -65,7 +72,7 @@ public final class CurveFit {
       youngY[i] = p.youngGcSecondsPerSecond();
     }
     Line young = nonNegativeLine(youngX, youngY);
-    OldFit old = oldTerm(points, g, calibrated.offsetBytes(), false);
+    OldFit old = oldTerm(points, g, liveBytes, calibrated.offsetBytes(), false);
     return new GcModel(
         old.line().slope(),
         old.offsetBytes(),
@@ -82,12 +89,13 @@ public final class CurveFit {
    * {@code Y + k/(oldShare*H - L - E0)} and the young term is dropped: measured on a paced service
    * over five heaps, G1's total GC time follows that form, not {@code a/(youngShare*H)}.
    */
-  public static GcModel fitOnOldHeadroom(GcModel calibrated, List<CurvePoint> points) {
+  public static GcModel fitOnOldHeadroom(GcModel calibrated, List<CurvePoint> all, long liveBytes) {
     Generations g = calibrated.generations();
-    if (distinctHeaps(points) < POINTS_FOR_TWO_TERMS || smallestHeadroom(points, g) <= 0) {
+    List<CurvePoint> points = aboveLive(all, g, liveBytes);
+    if (distinctHeaps(points) < POINTS_FOR_TWO_TERMS) {
       return calibrated;
     }
-    OldFit total = oldTerm(points, g, calibrated.offsetBytes(), true);
+    OldFit total = oldTerm(points, g, liveBytes, calibrated.offsetBytes(), true);
     return new GcModel(
         total.line().slope(),
         total.offsetBytes(),
@@ -97,10 +105,23 @@ public final class CurveFit {
         GcConstantEstimator.HISTORY_FIT);
   }
 
-  private static double smallestHeadroom(List<CurvePoint> points, Generations g) {
+  /**
+   * The points whose old generation has room above {@code liveBytes}: a heap that small cannot hold
+   * today's live set, so its GC time says nothing about the curve read with it.
+   */
+  private static List<CurvePoint> aboveLive(
+      List<CurvePoint> points, Generations g, long liveBytes) {
+    return points.stream().filter(p -> headroom(p, g, liveBytes) > 0).toList();
+  }
+
+  private static double headroom(CurvePoint p, Generations g, long liveBytes) {
+    return g.oldShare() * p.heapBytes() - liveBytes;
+  }
+
+  private static double smallestHeadroom(List<CurvePoint> points, Generations g, long liveBytes) {
     double smallest = Double.MAX_VALUE;
     for (CurvePoint p : points) {
-      smallest = Math.min(smallest, g.oldShare() * p.heapBytes() - p.liveBytes());
+      smallest = Math.min(smallest, headroom(p, g, liveBytes));
     }
     return smallest;
   }
@@ -110,14 +131,19 @@ public final class CurveFit {
    * E0} on a grid below the smallest headroom seen once the points span enough heaps.
    */
   private static OldFit oldTerm(
-      List<CurvePoint> points, Generations g, long calibratedOffset, boolean total) {
-    long offset = calibratedOffset;
-    Line best = oldLine(points, g, offset, total);
+      List<CurvePoint> points,
+      Generations g,
+      long liveBytes,
+      long calibratedOffset,
+      boolean total) {
+    double smallest = smallestHeadroom(points, g, liveBytes);
+    // The calibrated offset was set for today's point alone; no point may sit at or below it.
+    long offset = Math.min(calibratedOffset, (long) (smallest * MAX_OFFSET_SHARE));
+    Line best = oldLine(points, g, liveBytes, offset, total);
     if (distinctHeaps(points) >= POINTS_FOR_OFFSET) {
-      double smallest = smallestHeadroom(points, g);
       for (int step = 0; step < OFFSET_GRID; step++) {
         long tried = (long) (smallest * MAX_OFFSET_SHARE * step / OFFSET_GRID);
-        Line candidate = oldLine(points, g, tried, total);
+        Line candidate = oldLine(points, g, liveBytes, tried, total);
         if (candidate.residual() < best.residual()) {
           best = candidate;
           offset = tried;
@@ -127,13 +153,14 @@ public final class CurveFit {
     return new OldFit(best, offset);
   }
 
-  private static Line oldLine(List<CurvePoint> points, Generations g, long offset, boolean total) {
+  private static Line oldLine(
+      List<CurvePoint> points, Generations g, long liveBytes, long offset, boolean total) {
     int n = points.size();
     double[] x = new double[n];
     double[] y = new double[n];
     for (int i = 0; i < n; i++) {
       CurvePoint p = points.get(i);
-      x[i] = 1 / (g.oldShare() * p.heapBytes() - p.liveBytes() - offset);
+      x[i] = 1 / (headroom(p, g, liveBytes) - offset);
       y[i] = p.oldGcSecondsPerSecond() + (total ? p.youngGcSecondsPerSecond() : 0);
     }
     return nonNegativeLine(x, y);

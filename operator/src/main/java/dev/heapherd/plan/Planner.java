@@ -89,8 +89,8 @@ public final class Planner {
       GcModel calibrated = GcConstants.estimate(observation(m));
       GcModel gc =
           G1.equals(m.collector())
-              ? CurveFit.fitOnOldHeadroom(calibrated, points(m))
-              : CurveFit.fit(calibrated, points(m));
+              ? CurveFit.fitOnOldHeadroom(calibrated, points(m), m.liveBytes())
+              : CurveFit.fit(calibrated, points(m), m.liveBytes());
       out.add(
           new Workload(
               m.name(),
