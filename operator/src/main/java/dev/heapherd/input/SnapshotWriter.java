@@ -24,7 +24,8 @@ public final class SnapshotWriter {
       String capturedAt,
       long windowSeconds,
       String source,
-      List<Entry> workloads,
+      // Written even when empty (every workload held): the reader requires the key.
+      @JsonInclude(JsonInclude.Include.ALWAYS) List<Entry> workloads,
       List<HeldEntry> held) {}
 
   /** One held workload; an unknown memory figure is left out. */

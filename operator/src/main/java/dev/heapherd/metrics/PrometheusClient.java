@@ -3,6 +3,7 @@ package dev.heapherd.metrics;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
+import java.io.ByteArrayInputStream;
 import java.io.IOException;
 import java.io.InputStream;
 import java.net.ConnectException;
@@ -13,7 +14,6 @@ import java.net.http.HttpRequest;
 import java.net.http.HttpResponse;
 import java.net.http.HttpTimeoutException;
 import java.nio.charset.StandardCharsets;
-import java.nio.file.Files;
 import java.nio.file.Path;
 import java.security.GeneralSecurityException;
 import java.security.KeyStore;
@@ -43,6 +43,9 @@ public final class PrometheusClient {
 
   /** Longest part of an error body quoted in a message. */
   private static final int MAX_QUOTED_CHARS = 200;
+
+  /** Written where a server's text held the bearer token. */
+  private static final String REDACTED = "(token)";
 
   /**
    * Largest answer read, our choice: one series per pod at about 200 bytes each leaves room for
@@ -274,7 +277,7 @@ public final class PrometheusClient {
           "not a Prometheus API answer (HTTP " + status + "): " + detail);
     }
     List<String> warnings = new ArrayList<>();
-    body.path("warnings").forEach(w -> warnings.add(w.asText()));
+    body.path("warnings").forEach(w -> warnings.add(quotable(w.asText())));
     return new Answer(body.path("data"), warnings);
   }
 
@@ -311,16 +314,30 @@ public final class PrometheusClient {
 
   // Only Prometheus' own error text is quoted: any other body (a proxy's page) may echo request
   // headers, the bearer token among them, so it is described by its size alone.
-  private static String describe(String apiError, String body) {
+  private String describe(String apiError, String body) {
     if (apiError.isEmpty()) {
       return "a body that is not a Prometheus error (" + body.length() + " characters)";
     }
-    String text = apiError.replaceAll("[\\s\\p{Cntrl}]+", " ").strip();
+    return quotable(apiError);
+  }
+
+  /**
+   * Text of the server's shown in messages, status and logs: on one line, cut, and with the bearer
+   * token taken out, as a server or a proxy in front of it may echo the request's headers.
+   */
+  private String quotable(String serverText) {
+    String text = serverText;
+    if (endpoint.bearerToken().isPresent()) {
+      text = text.replace(endpoint.bearerToken().get(), REDACTED);
+    }
+    text = text.replaceAll("[\\s\\p{Cntrl}]+", " ").strip();
     return text.length() > MAX_QUOTED_CHARS ? text.substring(0, MAX_QUOTED_CHARS) + "..." : text;
   }
 
   private static SSLContext trusting(Path caFile) throws MetricsException {
-    try (InputStream in = Files.newInputStream(caFile)) {
+    try (InputStream in =
+        new ByteArrayInputStream(
+            PrometheusEndpoint.readCapped(caFile, PrometheusEndpoint.MAX_CA_FILE_BYTES))) {
       KeyStore store = KeyStore.getInstance(KeyStore.getDefaultType());
       store.load(null, null);
       int index = 0;

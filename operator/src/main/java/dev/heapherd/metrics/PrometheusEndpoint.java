@@ -1,6 +1,10 @@
 package dev.heapherd.metrics;
 
+import java.io.IOException;
+import java.io.InputStream;
 import java.net.URI;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
 import java.util.Optional;
@@ -20,6 +24,18 @@ public record PrometheusEndpoint(
   public static final Duration DEFAULT_TIMEOUT = Duration.ofSeconds(30);
 
   private static final char DELETE = 0x7f;
+
+  /**
+   * Largest token file read, our choice: a Kubernetes service account token is one or two KiB, so a
+   * file past this is not a token, and a device such as /dev/zero is never read whole.
+   */
+  public static final int MAX_TOKEN_FILE_BYTES = 64 << 10;
+
+  /**
+   * Largest CA file read, our choice: a bundle of every public root CA is a few hundred KiB (from
+   * memory), far below this.
+   */
+  public static final int MAX_CA_FILE_BYTES = 4 << 20;
 
   /** Longest timeout accepted: a query slower than ten minutes is a Prometheus in trouble. */
   public static final Duration MAX_TIMEOUT = Duration.ofMinutes(10);
@@ -70,5 +86,27 @@ public record PrometheusEndpoint(
   /** An endpoint with no authentication, the JDK's trust store and the default timeout. */
   public static PrometheusEndpoint of(URI baseUri) {
     return new PrometheusEndpoint(baseUri, Optional.empty(), Optional.empty(), DEFAULT_TIMEOUT);
+  }
+
+  /** The token a token file holds, surrounding white space stripped, read with a size cap. */
+  public static String readToken(Path file) throws IOException {
+    return new String(readCapped(file, MAX_TOKEN_FILE_BYTES), StandardCharsets.UTF_8).strip();
+  }
+
+  /**
+   * At most {@code maxBytes} of a regular file; longer files and anything else (a device, a folder)
+   * are refused before more is read.
+   */
+  static byte[] readCapped(Path file, int maxBytes) throws IOException {
+    if (!Files.isRegularFile(file)) {
+      throw new IOException("not a regular file");
+    }
+    try (InputStream in = Files.newInputStream(file)) {
+      byte[] bytes = in.readNBytes(maxBytes + 1);
+      if (bytes.length > maxBytes) {
+        throw new IOException("larger than " + (maxBytes >> 10) + " KiB");
+      }
+      return bytes;
+    }
   }
 }

@@ -1,10 +1,12 @@
 package dev.heapherd.metrics;
 
+import dev.heapherd.input.ObjectNames;
 import dev.heapherd.input.Snapshot;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.Collection;
 import java.util.Comparator;
+import java.util.LinkedHashMap;
 import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Map;
@@ -108,7 +110,26 @@ public final class SnapshotBuilder {
       }
     }
     measured.removeIf(w -> held.stream().anyMatch(h -> h.name().equals(w.name())));
-    return new Snapshot(at, windowSeconds, measured, held);
+    measured.removeIf(w -> !ObjectNames.valid(w.name()));
+    return new Snapshot(at, windowSeconds, measured, readable(held));
+  }
+
+  /**
+   * The held entries as the snapshot reader accepts them: one per name, their reasons joined, and
+   * none whose name no Deployment or StatefulSet can have (an empty pod label, a label value with
+   * spaces), which could not be any of the pool's workloads.
+   */
+  private static List<Snapshot.Held> readable(List<Snapshot.Held> held) {
+    Map<String, String> reasons = new LinkedHashMap<>();
+    for (Snapshot.Held h : held) {
+      if (ObjectNames.valid(h.name())) {
+        reasons.merge(
+            h.name(), h.reason(), (was, more) -> was.equals(more) ? was : was + "; " + more);
+      }
+    }
+    return reasons.entrySet().stream()
+        .map(e -> new Snapshot.Held(e.getKey(), e.getValue()))
+        .toList();
   }
 
   /** The pod's owner: by label when one is configured (kind from the name, else Deployment). */

@@ -2,6 +2,7 @@ package dev.heapherd.plan;
 
 import dev.heapherd.engine.Bound;
 import dev.heapherd.engine.GcConstantEstimator;
+import dev.heapherd.input.ErrorText;
 import dev.heapherd.input.Quantity;
 import java.util.ArrayList;
 import java.util.List;
@@ -102,7 +103,7 @@ public final class PlanTable {
       out.append("Held, sizes unchanged: ")
           .append(h.name())
           .append(": ")
-          .append(h.reason())
+          .append(ErrorText.oneLine(h.reason()))
           .append('\n');
     }
     if (doc.held().stream().anyMatch(h -> h.memoryBytes() == 0)) {

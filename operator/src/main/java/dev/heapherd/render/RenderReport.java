@@ -1,5 +1,6 @@
 package dev.heapherd.render;
 
+import dev.heapherd.input.ErrorText;
 import dev.heapherd.input.Quantity;
 import dev.heapherd.plan.PlanDocument;
 import dev.heapherd.plan.PlanTable;
@@ -64,7 +65,11 @@ public final class RenderReport {
       out.append('\n');
     }
     for (Renderer.Kept k : outcome.kept()) {
-      out.append("Unchanged: ").append(k.name()).append(": ").append(k.reason()).append('\n');
+      out.append("Unchanged: ")
+          .append(k.name())
+          .append(": ")
+          .append(ErrorText.oneLine(k.reason()))
+          .append('\n');
     }
     for (Renderer.Change c : outcome.changes()) {
       if (c.rewritten()) {

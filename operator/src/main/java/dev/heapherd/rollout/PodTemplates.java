@@ -1,6 +1,7 @@
 package dev.heapherd.rollout;
 
 import dev.heapherd.engine.Units;
+import dev.heapherd.input.ErrorText;
 import dev.heapherd.input.Quantity;
 import io.fabric8.kubernetes.api.model.Container;
 import io.fabric8.kubernetes.api.model.EnvVar;
@@ -27,6 +28,7 @@ public final class PodTemplates {
    * @param jvmOptions the JVM options variable's value, null when unset
    * @param jvmOptionsFromReference the variable takes its value from a ConfigMap, Secret or field
    * @param otherContainersLimitBytes the memory limits of the pod's other containers, summed
+   * @param otherContainersProblem why one of the other containers' limits cannot be read
    */
   public record MemorySettings(
       String containerName,
@@ -34,7 +36,8 @@ public final class PodTemplates {
       String request,
       String jvmOptions,
       boolean jvmOptionsFromReference,
-      long otherContainersLimitBytes) {
+      long otherContainersLimitBytes,
+      Optional<String> otherContainersProblem) {
 
     /** The limit in bytes, if set. */
     public OptionalLong limitBytes() {
@@ -44,10 +47,13 @@ public final class PodTemplates {
     }
 
     /**
-     * Why heapherd cannot resize this container safely, or empty: a memory size that is not whole
-     * bytes, or JVM options the JVM would refuse.
+     * Why heapherd cannot resize this container safely, or empty: a memory size (its own or another
+     * container's) that is not whole bytes, or JVM options the JVM would refuse.
      */
     public Optional<String> problem() {
+      if (otherContainersProblem.isPresent()) {
+        return otherContainersProblem;
+      }
       for (String size : new String[] {limit, request}) {
         if (size != null) {
           try {
@@ -79,11 +85,21 @@ public final class PodTemplates {
       return Optional.empty();
     }
     Container c = chosen.get();
-    long others =
-        containers.stream()
-            .filter(o -> o != c)
-            .mapToLong(o -> quantity(o, true).map(Quantity::parseBytes).orElse(0L))
-            .sum();
+    long others = 0;
+    String othersProblem = null;
+    for (Container o : containers) {
+      Optional<String> limit = o == c ? Optional.empty() : quantity(o, true);
+      if (limit.isPresent()) {
+        // Read with the same rule as the chosen container: a sidecar's "512m" is half a byte
+        // to Kubernetes, and counting it as such would hand its memory to the heap.
+        try {
+          others += Quantity.parseMemoryBytes(limit.get());
+        } catch (IllegalArgumentException e) {
+          othersProblem =
+              "container " + ErrorText.quoted(o.getName()) + ": memory size " + e.getMessage();
+        }
+      }
+    }
     Optional<EnvVar> env =
         c.getEnv() == null
             ? Optional.empty()
@@ -95,7 +111,8 @@ public final class PodTemplates {
             quantity(c, false).orElse(null),
             env.map(EnvVar::getValue).orElse(null),
             env.map(e -> e.getValueFrom() != null).orElse(false),
-            others));
+            others,
+            Optional.ofNullable(othersProblem)));
   }
 
   /**

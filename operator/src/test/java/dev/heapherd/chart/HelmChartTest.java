@@ -164,6 +164,22 @@ class HelmChartTest {
         .noneMatch(o -> o instanceof NetworkPolicy);
   }
 
+  @Test
+  void bindsTheMetricsPortToTheAddressTheValuesName() {
+    var defaults = only(render("http://prometheus.monitoring:9090"), Deployment.class);
+    assertThat(defaults.getSpec().getTemplate().getSpec().getContainers().get(0).getArgs())
+        .contains("--http-address=0.0.0.0:8080");
+    var pod =
+        only(
+            render(
+                Map.of(
+                    "prometheus.url", "http://prometheus.monitoring:9090",
+                    "metrics.bindAddress", "127.0.0.1")),
+            Deployment.class);
+    assertThat(pod.getSpec().getTemplate().getSpec().getContainers().get(0).getArgs())
+        .contains("--http-address=127.0.0.1:8080");
+  }
+
   private static List<PolicyRule> operatorRules() throws Exception {
     List<PolicyRule> expected = new ArrayList<>();
     for (JsonNode rule :

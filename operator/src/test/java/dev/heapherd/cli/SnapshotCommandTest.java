@@ -2,6 +2,9 @@ package dev.heapherd.cli;
 
 import static org.assertj.core.api.Assertions.assertThat;
 
+import dev.heapherd.input.Snapshot;
+import dev.heapherd.input.SnapshotReader;
+import dev.heapherd.metrics.PrometheusEndpoint;
 import java.io.IOException;
 import java.net.InetAddress;
 import java.net.ServerSocket;
@@ -101,6 +104,45 @@ class SnapshotCommandTest {
     assertThat(run.out() + run.err()).doesNotContain("s3cr3t").doesNotContain("second-line");
   }
 
+  @ParameterizedTest
+  @CsvSource({"--bearer-token-file, /dev/zero", "--ca-file, /dev/zero"})
+  void aDeviceOrHugeFileForACredentialIsRefusedBeforeItIsRead(String flag, String device)
+      throws IOException {
+    // /dev/zero never ends: read whole, it ran the JVM out of memory.
+    PlanRun run =
+        PlanRun.run(
+            "snapshot",
+            "--pool",
+            POOL.toString(),
+            "--prometheus",
+            deadPrometheus().replace("http://", "https://"),
+            flag,
+            device);
+    assertThat(run.exitCode()).isEqualTo(Main.EXIT_BAD_INPUT);
+    assertThat(run.out()).isEmpty();
+    assertThat(run.err().strip().lines()).hasSize(1);
+    assertThat(run.err()).contains(flag).contains("not a regular file");
+  }
+
+  @Test
+  void aTokenFileLargerThanAnyTokenIsRefused(@TempDir Path dir) throws IOException {
+    Path tokenFile =
+        Files.writeString(
+            dir.resolve("token"), "x".repeat(PrometheusEndpoint.MAX_TOKEN_FILE_BYTES + 1));
+    PlanRun run =
+        PlanRun.run(
+            "snapshot",
+            "--pool",
+            POOL.toString(),
+            "--prometheus",
+            deadPrometheus(),
+            "--bearer-token-file",
+            tokenFile.toString());
+    assertThat(run.exitCode()).isEqualTo(Main.EXIT_BAD_INPUT);
+    assertThat(run.err()).contains("--bearer-token-file").contains("larger than 64 KiB");
+    assertThat(run.out() + run.err()).doesNotContain("xxxx");
+  }
+
   @Test
   void aPasswordInThePrometheusUrlAppearsNeitherInTheSnapshotNorInErrors() throws IOException {
     String url = deadPrometheus().replace("http://", "http://reader:pw-9f3a-never-print@");
@@ -109,5 +151,23 @@ class SnapshotCommandTest {
             "snapshot", "--pool", POOL.toString(), "--prometheus", url, "--timeout-seconds", "2");
     assertThat(run.out()).contains("source: ").contains("held:");
     assertThat(run.out() + run.err()).doesNotContain("pw-9f3a-never-print");
+  }
+
+  @Test
+  void aSnapshotWithEveryWorkloadHeldIsOneItsReaderAccepts(@TempDir Path dir) throws Exception {
+    // Prometheus down: every workload is held and none measured; the file must still read.
+    PlanRun run =
+        PlanRun.run(
+            "snapshot",
+            "--pool",
+            POOL.toString(),
+            "--prometheus",
+            deadPrometheus(),
+            "--timeout-seconds",
+            "2");
+    Path file = Files.writeString(dir.resolve("snapshot.yaml"), run.out());
+    Snapshot read = SnapshotReader.read(file);
+    assertThat(read.workloads()).isEmpty();
+    assertThat(read.held()).isNotEmpty();
   }
 }

@@ -6,12 +6,16 @@ import static org.assertj.core.api.Assertions.assertThatThrownBy;
 import com.sun.net.httpserver.HttpExchange;
 import com.sun.net.httpserver.HttpServer;
 import dev.heapherd.input.Snapshot;
+import dev.heapherd.input.SnapshotReader;
+import dev.heapherd.input.SnapshotWriter;
 import java.io.IOException;
 import java.io.OutputStream;
 import java.net.InetAddress;
 import java.net.InetSocketAddress;
 import java.net.URI;
 import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.List;
@@ -19,6 +23,7 @@ import java.util.Optional;
 import java.util.concurrent.atomic.AtomicReference;
 import org.junit.jupiter.api.AfterEach;
 import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
 
 /**
  * The client against a stand-in HTTP server for answers the real Prometheus cannot be made to give
@@ -145,6 +150,36 @@ class PrometheusClientTest {
   }
 
   @Test
+  void aSnapshotOfOddSeriesIsOneItsOwnReaderAccepts(@TempDir Path dir) throws Exception {
+    // One pod name in two foreign namespaces, and a series with an empty pod label: held once
+    // each by a name a workload can have, so the written snapshot reads back.
+    String odd =
+        "{\"status\":\"success\",\"data\":{\"resultType\":\"vector\",\"result\":["
+            + "{\"metric\":{\"namespace\":\"other\",\"pod\":\"orders-7d4b9c6f5-x2x9q\"},"
+            + "\"value\":[1,\"100\"]},"
+            + "{\"metric\":{\"namespace\":\"third\",\"pod\":\"orders-7d4b9c6f5-x2x9q\"},"
+            + "\"value\":[1,\"100\"]},"
+            + "{\"metric\":{\"namespace\":\"shop\",\"pod\":\"\"},\"value\":[1,\"100\"]}]}}";
+    PrometheusClient client = serveWith(exchange -> respond(exchange, 200, odd));
+    server.createContext(
+        "/api/v1/query_range",
+        exchange ->
+            respond(
+                exchange,
+                200,
+                "{\"status\":\"success\",\"data\":{\"resultType\":\"matrix\",\"result\":[]}}"));
+    Snapshot snapshot =
+        new SnapshotBuilder(new FleetReader(client, QueryProfiles.MICROMETER))
+            .build("shop", 60, Instant.now(), List.of("orders"));
+    Path file =
+        Files.writeString(dir.resolve("snapshot.yaml"), SnapshotWriter.write(snapshot, "test"));
+    Snapshot read = SnapshotReader.read(file);
+    assertThat(read.held())
+        .extracting(Snapshot.Held::name)
+        .containsExactlyInAnyOrder("orders-7d4b9c6f5-x2x9q", "orders");
+  }
+
+  @Test
   void partialDataHoldsEveryExpectedWorkload() throws Exception {
     PrometheusClient client =
         serve(
@@ -251,6 +286,30 @@ class PrometheusClientTest {
         .isInstanceOf(MetricsException.class)
         .hasMessageContaining("HTTP 401")
         .hasMessageNotContaining("s3cret");
+  }
+
+  @Test
+  void aPrometheusErrorOrWarningThatEchoesTheTokenShowsItRedacted() throws Exception {
+    // Prometheus' own error text is quoted, so a server (or a proxy speaking its format) that
+    // echoes the request's headers there must not carry the token into messages and status.
+    PrometheusClient refusing =
+        serve(
+            400,
+            "{\"status\":\"error\",\"errorType\":\"bad_data\","
+                + "\"error\":\"bad header Authorization: Bearer s3cret\"}",
+            Duration.ZERO);
+    assertThatThrownBy(() -> refusing.query("up", Instant.now()))
+        .hasMessageContaining("Bearer (token)")
+        .hasMessageNotContaining("s3cret");
+    server.stop(0);
+    PrometheusClient warning =
+        serve(
+            200,
+            "{\"status\":\"success\",\"warnings\":[\"sent Bearer s3cret\\nupstream\"],"
+                + "\"data\":{\"resultType\":\"vector\",\"result\":[]}}",
+            Duration.ZERO);
+    assertThat(warning.query("up", Instant.now()).warnings())
+        .containsExactly("sent Bearer (token) upstream");
   }
 
   private PrometheusClient serveWith(com.sun.net.httpserver.HttpHandler handler)

@@ -48,4 +48,32 @@ class HeldWorkloadsTest {
         .contains("Held, sizes unchanged: fare-cache: restarted in the window")
         .doesNotContain("memory is unknown");
   }
+
+  @Test
+  void aHeldReasonIsPrintedOnOneLineWithItsControlCharactersEscaped(@TempDir Path dir)
+      throws Exception {
+    Path snapshotPath = dir.resolve("snapshot.yaml");
+    // A reason is free text from a file or Prometheus: a terminal escape or a line break in it
+    // must not colour the terminal or forge a line of the table.
+    Files.writeString(
+        snapshotPath,
+        Files.readString(EXAMPLES.resolve("snapshot.yaml"))
+            + "held:\n"
+            + "  - name: fare-cache\n"
+            + "    reason: \"restarted\\e[31m\\nHeld, sizes unchanged: forged\"\n");
+    Path poolPath = EXAMPLES.resolve("pool.yaml");
+    PoolFile pool = PoolFileReader.read(poolPath);
+    Snapshot snapshot = SnapshotReader.read(snapshotPath);
+    PlanDocument doc =
+        PlanDocument.of(
+            pool,
+            snapshot,
+            Planner.plan(pool, poolPath.toString(), snapshot, snapshotPath.toString()));
+
+    String table = PlanTable.render(doc);
+    assertThat(table)
+        .doesNotContain("\u001b")
+        .contains(
+            "Held, sizes unchanged: fare-cache: restarted\\u001b[31m\\nHeld, sizes unchanged: forged\n");
+  }
 }

@@ -122,6 +122,19 @@ class PodTemplatesTest {
   }
 
   @Test
+  void aSidecarLimitThatIsNotWholeBytesIsAProblemNotHalfAByte() {
+    PodTemplateSpec t = quoteApi();
+    container(t, "log-shipper").getResources().getLimits().put("memory", new Quantity("512m"));
+    var m = PodTemplates.read(t, APP, VARIABLE).orElseThrow();
+
+    // Kubernetes reads 512m as 0.512 bytes (its quantity grammar, "m" is milli); counted so, the
+    // sidecar's memory would have gone to the heap.
+    assertThat(m.problem())
+        .hasValueSatisfying(
+            p -> assertThat(p).contains("\"log-shipper\"").contains("thousandths of a byte"));
+  }
+
+  @Test
   void readsTheFirstContainerWhenNoNameIsGiven() {
     var m = PodTemplates.read(quoteApi(), "", VARIABLE).orElseThrow();
 
