@@ -7,22 +7,15 @@ import dev.heapherd.input.Snapshot;
 import dev.heapherd.metrics.MetricsException;
 import dev.heapherd.metrics.PoolMetrics;
 import dev.heapherd.metrics.PrometheusClient;
-import dev.heapherd.metrics.PrometheusEndpoint;
 import dev.heapherd.metrics.QueryProfile;
-import java.io.IOException;
-import java.net.URI;
-import java.nio.file.Files;
-import java.nio.file.Path;
-import java.time.Duration;
 import java.time.Instant;
-import java.util.Optional;
+import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Option;
 
 /** Options shared by the commands that read metrics from Prometheus. */
 final class MetricsOptions {
 
-  @Option(names = "--prometheus", description = "Prometheus base URL, e.g. http://127.0.0.1:9090.")
-  URI prometheus;
+  @Mixin PrometheusOptions server;
 
   @Option(
       names = "--namespace",
@@ -47,18 +40,6 @@ final class MetricsOptions {
           "Label naming each pod's workload (default: the pool's"
               + " spec.metrics.workloadLabel, else from pod names).")
   String workloadLabel;
-
-  @Option(names = "--bearer-token-file", description = "File holding a bearer token to send.")
-  Path bearerTokenFile;
-
-  @Option(names = "--ca-file", description = "PEM file of the CA to trust for https.")
-  Path caFile;
-
-  @Option(
-      names = "--timeout-seconds",
-      defaultValue = "30",
-      description = "Timeout of one query (default: ${DEFAULT-VALUE}).")
-  long timeoutSeconds;
 
   /** Measures the pool's namespace now; metrics failures become held workloads. */
   Snapshot measure(PoolFile pool) throws InputException {
@@ -93,34 +74,12 @@ final class MetricsOptions {
     }
     PrometheusClient client;
     try {
-      client = PrometheusClient.connect(endpoint());
+      client = PrometheusClient.connect(server.endpoint());
     } catch (MetricsException e) {
       throw new InputException("--ca-file", "", e.getMessage());
     }
     var expected = pool.overrides().stream().map(PoolFile.Override::name).toList();
     String label = workloadLabel != null ? workloadLabel : pool.metrics().workloadLabel();
     return PoolMetrics.measure(client, queries, label, ns, window, Instant.now(), expected);
-  }
-
-  private PrometheusEndpoint endpoint() throws InputException {
-    Optional<String> token = Optional.empty();
-    if (bearerTokenFile != null) {
-      try {
-        token = Optional.of(Files.readString(bearerTokenFile).strip());
-      } catch (IOException e) {
-        throw new InputException(bearerTokenFile.toString(), "", "cannot read: " + e.getMessage());
-      }
-    }
-    try {
-      return new PrometheusEndpoint(
-          prometheus, token, Optional.ofNullable(caFile), Duration.ofSeconds(timeoutSeconds));
-    } catch (IllegalArgumentException e) {
-      throw new InputException(
-          e.getMessage().contains("timeout")
-              ? "--timeout-seconds"
-              : e.getMessage().contains("token") ? "--bearer-token-file" : "--prometheus",
-          "",
-          e.getMessage());
-    }
   }
 }

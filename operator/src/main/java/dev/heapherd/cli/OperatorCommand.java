@@ -1,9 +1,9 @@
 package dev.heapherd.cli;
 
 import dev.heapherd.input.ErrorText;
+import dev.heapherd.input.InputException;
 import dev.heapherd.metrics.MetricsException;
 import dev.heapherd.metrics.PrometheusClient;
-import dev.heapherd.metrics.PrometheusEndpoint;
 import dev.heapherd.reconcile.OperatorRuntime;
 import dev.heapherd.reconcile.PrometheusMetricsSource;
 import io.fabric8.kubernetes.client.KubernetesClient;
@@ -15,10 +15,6 @@ import io.micrometer.prometheusmetrics.PrometheusConfig;
 import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
 import java.io.IOException;
 import java.net.InetSocketAddress;
-import java.net.URI;
-import java.nio.file.Files;
-import java.nio.file.Path;
-import java.time.Duration;
 import java.util.HashSet;
 import java.util.List;
 import java.util.Optional;
@@ -26,6 +22,7 @@ import java.util.concurrent.Callable;
 import java.util.concurrent.CountDownLatch;
 import picocli.CommandLine;
 import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Option;
 
 /** {@code operator}: reconciles HeapPools in the cluster of the current kubeconfig. */
@@ -37,23 +34,7 @@ import picocli.CommandLine.Option;
             + " credentials): publish proposals for HeapPools and, in Apply mode, roll them out.")
 final class OperatorCommand implements Callable<Integer> {
 
-  @Option(
-      names = "--prometheus",
-      required = true,
-      description = "Prometheus base URL the workloads' metrics are read from.")
-  URI prometheus;
-
-  @Option(names = "--bearer-token-file", description = "File holding a bearer token to send.")
-  Path bearerTokenFile;
-
-  @Option(names = "--ca-file", description = "PEM file of the CA to trust for https.")
-  Path caFile;
-
-  @Option(
-      names = "--timeout-seconds",
-      defaultValue = "30",
-      description = "Timeout of one Prometheus query (default: ${DEFAULT-VALUE}).")
-  long timeoutSeconds;
+  @Mixin PrometheusOptions server;
 
   @Option(
       names = "--namespaces",
@@ -87,8 +68,12 @@ final class OperatorCommand implements Callable<Integer> {
     PrometheusClient prometheusClient;
     try {
       address = address(httpAddress);
-      prometheusClient = PrometheusClient.connect(endpoint());
-    } catch (IllegalArgumentException | MetricsException | IOException e) {
+      if (server.prometheus == null) {
+        throw new InputException(
+            "--prometheus", "", "give the Prometheus the workloads' metrics are read from");
+      }
+      prometheusClient = PrometheusClient.connect(server.endpoint());
+    } catch (IllegalArgumentException | MetricsException | InputException e) {
       err.println("heapherd: " + ErrorText.oneLine(e.getMessage()));
       return Main.EXIT_BAD_INPUT;
     }
@@ -131,15 +116,6 @@ final class OperatorCommand implements Callable<Integer> {
       return Main.EXIT_BAD_INPUT;
     }
     return 0;
-  }
-
-  private PrometheusEndpoint endpoint() throws IOException {
-    Optional<String> token = Optional.empty();
-    if (bearerTokenFile != null) {
-      token = Optional.of(Files.readString(bearerTokenFile).strip());
-    }
-    return new PrometheusEndpoint(
-        prometheus, token, Optional.ofNullable(caFile), Duration.ofSeconds(timeoutSeconds));
   }
 
   private static InetSocketAddress address(String text) {

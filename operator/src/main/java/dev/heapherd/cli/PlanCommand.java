@@ -54,14 +54,16 @@ final class PlanCommand implements Callable<Integer> {
   public Integer call() throws JsonProcessingException {
     PlanDocument doc;
     try {
-      if ((snapshot == null) == (metrics.prometheus == null)) {
+      if ((snapshot == null) == (metrics.server.prometheus == null)) {
         throw new InputException("plan", "", "give exactly one of --snapshot or --prometheus");
       }
       PoolFile poolFile = PoolFileReader.read(pool);
       Snapshot measured =
           snapshot != null ? SnapshotReader.read(snapshot) : metrics.measure(poolFile);
       String source =
-          snapshot != null ? snapshot.toString() : PrometheusEndpoint.redacted(metrics.prometheus);
+          snapshot != null
+              ? snapshot.toString()
+              : PrometheusEndpoint.redacted(metrics.server.prometheus);
       PoolPlan plan = Planner.plan(poolFile, pool.toString(), measured, source);
       doc = PlanDocument.of(poolFile, measured, plan);
     } catch (InputException e) {

@@ -62,7 +62,7 @@ final class RenderCommand implements Callable<Integer> {
     PoolFile poolFile;
     String namespace;
     try {
-      if ((snapshot == null) == (metrics.prometheus == null)) {
+      if ((snapshot == null) == (metrics.server.prometheus == null)) {
         throw new InputException("render", "", "give exactly one of --snapshot or --prometheus");
       }
       if (output != null) {
@@ -75,7 +75,9 @@ final class RenderCommand implements Callable<Integer> {
       Snapshot measured =
           snapshot != null ? SnapshotReader.read(snapshot) : metrics.measure(poolFile);
       String source =
-          snapshot != null ? snapshot.toString() : PrometheusEndpoint.redacted(metrics.prometheus);
+          snapshot != null
+              ? snapshot.toString()
+              : PrometheusEndpoint.redacted(metrics.server.prometheus);
       outcome =
           Renderer.render(
               poolFile, pool.toString(), measured, source, namespace, manifests.toString(), read);

@@ -38,12 +38,13 @@ final class SnapshotCommand implements Callable<Integer> {
   @Override
   public Integer call() {
     try {
-      if (metrics.prometheus == null) {
+      if (metrics.server.prometheus == null) {
         throw new InputException("--prometheus", "", "is required");
       }
       PoolFile poolFile = PoolFileReader.read(pool);
       Snapshot snapshot = metrics.measure(poolFile);
-      String text = SnapshotWriter.write(snapshot, PrometheusEndpoint.redacted(metrics.prometheus));
+      String text =
+          SnapshotWriter.write(snapshot, PrometheusEndpoint.redacted(metrics.server.prometheus));
       for (Snapshot.Held h : snapshot.held()) {
         spec.commandLine()
             .getErr()

@@ -1,7 +1,8 @@
-package dev.heapherd.reconcile;
+package dev.heapherd.observe;
 
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Quantity;
+import dev.heapherd.rollout.Annotations;
 import dev.heapherd.rollout.PodTemplates;
 import dev.heapherd.rollout.RolloutRecord;
 import dev.heapherd.rollout.WorkloadState;
@@ -43,7 +44,7 @@ public final class Observer {
    * cannot live with its new sizes usually fails within seconds of start-up; this leaves room for
    * start-up load and the first collections of a slow machine.
    */
-  static final long SETTLE_SECONDS = 30;
+  public static final long SETTLE_SECONDS = 30;
 
   private static final int FINGERPRINT_HEX = 16;
 

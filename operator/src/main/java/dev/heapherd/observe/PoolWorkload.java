@@ -1,4 +1,4 @@
-package dev.heapherd.reconcile;
+package dev.heapherd.observe;
 
 import io.fabric8.kubernetes.api.model.HasMetadata;
 import io.fabric8.kubernetes.api.model.IntOrString;

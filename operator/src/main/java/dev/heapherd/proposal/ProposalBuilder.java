@@ -1,4 +1,4 @@
-package dev.heapherd.reconcile;
+package dev.heapherd.proposal;
 
 import dev.heapherd.api.HeapPoolStatus;
 import dev.heapherd.engine.Objective;

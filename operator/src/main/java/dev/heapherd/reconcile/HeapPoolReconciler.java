@@ -2,9 +2,13 @@ package dev.heapherd.reconcile;
 
 import dev.heapherd.api.HeapPool;
 import dev.heapherd.api.HeapPoolStatus;
+import dev.heapherd.input.ErrorText;
 import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Snapshot;
+import dev.heapherd.observe.Observer;
+import dev.heapherd.observe.PoolWorkload;
+import dev.heapherd.proposal.ProposalBuilder;
 import dev.heapherd.rollout.PodTemplates;
 import dev.heapherd.rollout.RolloutPlanner;
 import dev.heapherd.rollout.RolloutRecord;
@@ -14,6 +18,7 @@ import io.fabric8.kubernetes.api.model.HasMetadata;
 import io.fabric8.kubernetes.api.model.Pod;
 import io.fabric8.kubernetes.api.model.apps.Deployment;
 import io.fabric8.kubernetes.api.model.apps.StatefulSet;
+import io.fabric8.kubernetes.client.KubernetesClientException;
 import io.fabric8.kubernetes.client.utils.KubernetesSerialization;
 import io.javaoperatorsdk.operator.api.config.informer.InformerEventSourceConfiguration;
 import io.javaoperatorsdk.operator.api.reconciler.Context;
@@ -37,6 +42,8 @@ import java.util.Set;
 import java.util.concurrent.TimeUnit;
 import java.util.stream.Collectors;
 import java.util.stream.Stream;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
 
 /**
  * Reconciles a HeapPool: observes its workloads and metrics, publishes a proposal, and in Apply
@@ -56,6 +63,10 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
   /** How soon a pool with a rollout running is looked at again, to catch a failing pod early. */
   static final Duration ROLLING_RECHECK = Duration.ofSeconds(5);
 
+  /** The Degraded reason of a visit that failed in a way no check foresaw. */
+  static final String UNEXPECTED_ERROR = "UnexpectedError";
+
+  private static final Logger LOG = LoggerFactory.getLogger(HeapPoolReconciler.class);
   private static final KubernetesSerialization JSON = new KubernetesSerialization();
 
   private final MetricsSource metrics;
@@ -102,14 +113,31 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
     HeapPoolStatus before = pool.getStatus();
     HeapPoolStatus status = before == null ? new HeapPoolStatus() : JSON.clone(before);
     PoolVisit visit = new PoolVisit(pool, status, now, new PoolEvents(context.getClient()));
-    boolean rolling =
-        visit(
-            visit,
-            new RolloutWriter(context.getClient()),
-            context.getPrimaryCache().list(pool.getMetadata().getNamespace()).toList());
+    boolean rolling;
+    try {
+      rolling =
+          visit(
+              visit,
+              new RolloutWriter(context.getClient()),
+              context.getPrimaryCache().list(pool.getMetadata().getNamespace()).toList());
+    } catch (KubernetesClientException e) {
+      // The API server's answer (a conflict, a timeout): the framework retries with backoff.
+      throw e;
+    } catch (RuntimeException e) {
+      // A defect or an input no check foresaw: said in the pool's status, not only in the log.
+      LOG.error("pool {}/{}: unexpected error", visit.namespace(), pool.getMetadata().getName(), e);
+      visit.degraded(
+          UNEXPECTED_ERROR,
+          ErrorText.oneLine(
+              e.getClass().getSimpleName()
+                  + (e.getMessage() == null ? "" : ": " + e.getMessage())
+                  + "; the operator log has the details"));
+      rolling = false;
+    }
     status.observedGeneration = pool.getMetadata().getGeneration();
     meters.reconciled(
         visit.namespace(), pool.getMetadata().getName(), Duration.between(now, clock.instant()));
+    retainMeters(context, pool, status);
     UpdateControl<HeapPool> control;
     if (JSON.asJson(status).equals(before == null ? "" : JSON.asJson(before))) {
       control = UpdateControl.noUpdate();
@@ -118,6 +146,26 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
       control = UpdateControl.patchStatus(pool);
     }
     return rolling ? control.rescheduleAfter(ROLLING_RECHECK) : control;
+  }
+
+  /**
+   * Drops the meters of pools that no longer exist and of workloads this pool no longer proposes
+   * for. Pools carry no finalizer, so a deleted pool is noticed here, at the next visit of any.
+   */
+  private void retainMeters(Context<HeapPool> context, HeapPool pool, HeapPoolStatus status) {
+    Set<String> pools =
+        context
+            .getPrimaryCache()
+            .list()
+            .map(p -> p.getMetadata().getNamespace() + "/" + p.getMetadata().getName())
+            .collect(Collectors.toSet());
+    Map<String, Set<String>> workloads = new java.util.HashMap<>();
+    if (status.proposal != null) {
+      workloads.put(
+          pool.getMetadata().getNamespace() + "/" + pool.getMetadata().getName(),
+          status.proposal.workloads.stream().map(w -> w.name).collect(Collectors.toSet()));
+    }
+    meters.retain(pools, workloads);
   }
 
   /** One visit: returns whether a rollout is running, so the pool is looked at again soon. */

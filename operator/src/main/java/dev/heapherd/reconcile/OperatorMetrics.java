@@ -2,11 +2,15 @@ package dev.heapherd.reconcile;
 
 import io.micrometer.core.instrument.Counter;
 import io.micrometer.core.instrument.Gauge;
+import io.micrometer.core.instrument.Meter;
 import io.micrometer.core.instrument.MeterRegistry;
+import io.micrometer.core.instrument.Tag;
 import io.micrometer.core.instrument.Tags;
 import io.micrometer.core.instrument.Timer;
 import java.time.Duration;
+import java.util.List;
 import java.util.Map;
+import java.util.Set;
 import java.util.concurrent.ConcurrentHashMap;
 import java.util.concurrent.atomic.AtomicReference;
 
@@ -14,6 +18,12 @@ import java.util.concurrent.atomic.AtomicReference;
 public final class OperatorMetrics {
 
   private static final String PREFIX = "heapherd.";
+  private static final String NAMESPACE = "namespace";
+  private static final String POOL = "pool";
+  private static final String WORKLOAD = "workload";
+
+  /** Key of the cache of gauges only: which meter the tags belong to. */
+  private static final String METER = "meter";
 
   private final MeterRegistry registry;
   private final Map<Tags, AtomicReference<Double>> gauges = new ConcurrentHashMap<>();
@@ -25,7 +35,7 @@ public final class OperatorMetrics {
 
   /** The heap a workload runs with now and the one proposed for it. */
   void heap(String namespace, String pool, String workload, long currentBytes, long proposedBytes) {
-    Tags tags = Tags.of("namespace", namespace, "pool", pool, "workload", workload);
+    Tags tags = Tags.of(NAMESPACE, namespace, POOL, pool, WORKLOAD, workload);
     gauge("workload.heap.current", "Heap limit the workload's pods run with", "bytes", tags)
         .set((double) currentBytes);
     gauge("workload.heap.proposed", "Heap limit heapherd proposes for the workload", "bytes", tags)
@@ -35,7 +45,7 @@ public final class OperatorMetrics {
   /** The pool's predicted GC time now and under the proposal. */
   void predictedGc(
       String namespace, String pool, double beforeSecondsPerHour, double afterSecondsPerHour) {
-    Tags tags = Tags.of("namespace", namespace, "pool", pool);
+    Tags tags = Tags.of(NAMESPACE, namespace, POOL, pool);
     gauge(
             "pool.gc.predicted.current",
             "Predicted GC seconds per hour at current heaps",
@@ -57,7 +67,7 @@ public final class OperatorMetrics {
       String workload,
       double predictedSecondsPerHour,
       double observedSecondsPerHour) {
-    Tags tags = Tags.of("namespace", namespace, "pool", pool, "workload", workload);
+    Tags tags = Tags.of(NAMESPACE, namespace, POOL, pool, WORKLOAD, workload);
     gauge(
             "workload.gc.checked.predicted",
             "GC seconds per hour predicted for the heap the workload now runs with",
@@ -76,7 +86,7 @@ public final class OperatorMetrics {
   void step(String namespace, String pool, String step) {
     Counter.builder(PREFIX + "rollout.steps")
         .description("Rollout steps heapherd took on workloads")
-        .tags("namespace", namespace, "pool", pool, "step", step)
+        .tags(NAMESPACE, namespace, POOL, pool, "step", step)
         .register(registry)
         .increment();
   }
@@ -85,7 +95,7 @@ public final class OperatorMetrics {
   void railTripped(String namespace, String pool, String rail) {
     Counter.builder(PREFIX + "rails.tripped")
         .description("Times a safety rail held a workload back")
-        .tags("namespace", namespace, "pool", pool, "rail", rail)
+        .tags(NAMESPACE, namespace, POOL, pool, "rail", rail)
         .register(registry)
         .increment();
   }
@@ -94,13 +104,47 @@ public final class OperatorMetrics {
   void reconciled(String namespace, String pool, Duration took) {
     Timer.builder(PREFIX + "reconcile.duration")
         .description("Time to reconcile one pool")
-        .tags("namespace", namespace, "pool", pool)
+        .tags(NAMESPACE, namespace, POOL, pool)
         .register(registry)
         .record(took);
   }
 
+  /**
+   * Removes every meter of a pool not in {@code pools} (namespace/name keys), and of a workload
+   * that has left its pool, so the series of a deleted pool or a workload it no longer selects go
+   * away rather than report their last value for ever.
+   *
+   * @param workloads by pool key, the workloads each live pool selects now; pools missing from this
+   *     map keep their workload meters
+   */
+  void retain(Set<String> pools, Map<String, Set<String>> workloads) {
+    for (Meter meter : List.copyOf(registry.getMeters())) {
+      Meter.Id id = meter.getId();
+      if (!id.getName().startsWith(PREFIX) || id.getTag(POOL) == null) {
+        continue;
+      }
+      String pool = id.getTag(NAMESPACE) + "/" + id.getTag(POOL);
+      Set<String> selected = workloads.get(pool);
+      boolean gone =
+          !pools.contains(pool)
+              || (id.getTag(WORKLOAD) != null
+                  && selected != null
+                  && !selected.contains(id.getTag(WORKLOAD)));
+      if (gone) {
+        registry.remove(meter);
+        gauges.keySet().removeIf(k -> k.stream().allMatch(t -> tagOf(id, t)));
+      }
+    }
+  }
+
+  private static boolean tagOf(Meter.Id id, Tag tag) {
+    return tag.getKey().equals(METER)
+        ? id.getName().equals(PREFIX + tag.getValue())
+        : tag.getValue().equals(id.getTag(tag.getKey()));
+  }
+
   private AtomicReference<Double> gauge(String name, String description, String unit, Tags tags) {
-    Tags key = tags.and("meter", name);
+    Tags key = tags.and(METER, name);
     return gauges.computeIfAbsent(
         key,
         k -> {

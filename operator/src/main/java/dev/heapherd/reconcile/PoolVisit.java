@@ -6,6 +6,7 @@ import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Quantity;
 import dev.heapherd.input.Snapshot;
+import dev.heapherd.proposal.ProposalBuilder;
 import dev.heapherd.rollout.PodTemplates;
 import dev.heapherd.rollout.RolloutStep;
 import dev.heapherd.rollout.WorkloadState;

@@ -1,6 +1,9 @@
 package dev.heapherd.reconcile;
 
 import dev.heapherd.input.PoolFile;
+import dev.heapherd.observe.Observer;
+import dev.heapherd.observe.PoolWorkload;
+import dev.heapherd.rollout.Annotations;
 import dev.heapherd.rollout.PodTemplates;
 import dev.heapherd.rollout.RolloutRecord;
 import dev.heapherd.rollout.RolloutStep;

@@ -1,6 +1,6 @@
 package dev.heapherd.render;
 
-import dev.heapherd.reconcile.PoolWorkload;
+import dev.heapherd.observe.PoolWorkload;
 
 /**
  * A workload of the pool and where its manifest is.

@@ -5,7 +5,7 @@ import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Snapshot;
 import dev.heapherd.input.SnapshotReader;
-import dev.heapherd.reconcile.PoolWorkload;
+import dev.heapherd.observe.PoolWorkload;
 import java.util.Comparator;
 import java.util.LinkedHashMap;
 import java.util.List;

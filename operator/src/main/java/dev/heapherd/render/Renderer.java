@@ -4,7 +4,7 @@ import dev.heapherd.engine.PoolPlan;
 import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Snapshot;
-import dev.heapherd.reconcile.ProposalBuilder;
+import dev.heapherd.proposal.ProposalBuilder;
 import dev.heapherd.rollout.WorkloadState;
 import java.util.Comparator;
 import java.util.LinkedHashMap;

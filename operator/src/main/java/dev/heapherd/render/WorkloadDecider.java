@@ -3,7 +3,7 @@ package dev.heapherd.render;
 import dev.heapherd.engine.Objective;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Quantity;
-import dev.heapherd.reconcile.ProposalBuilder;
+import dev.heapherd.proposal.ProposalBuilder;
 import dev.heapherd.rollout.PodTemplates;
 import dev.heapherd.rollout.RolloutPlanner;
 import dev.heapherd.rollout.RolloutPlanner.Target;

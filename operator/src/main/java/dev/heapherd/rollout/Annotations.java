@@ -1,4 +1,4 @@
-package dev.heapherd.reconcile;
+package dev.heapherd.rollout;
 
 /** The annotations heapherd reads and writes on workloads. */
 public final class Annotations {

@@ -11,7 +11,7 @@ import dev.heapherd.chart.Chart;
 import dev.heapherd.harness.ControlPlane;
 import dev.heapherd.harness.PrometheusServer;
 import dev.heapherd.input.Quantity;
-import dev.heapherd.reconcile.Annotations;
+import dev.heapherd.rollout.Annotations;
 import dev.heapherd.rollout.JvmOptions;
 import io.fabric8.kubernetes.api.model.Condition;
 import io.fabric8.kubernetes.api.model.GenericKubernetesResource;

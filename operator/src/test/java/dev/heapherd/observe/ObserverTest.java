@@ -1,8 +1,9 @@
-package dev.heapherd.reconcile;
+package dev.heapherd.observe;
 
 import static org.assertj.core.api.Assertions.assertThat;
 
 import dev.heapherd.input.PoolFile;
+import dev.heapherd.rollout.Annotations;
 import dev.heapherd.rollout.RolloutRecord;
 import dev.heapherd.rollout.WorkloadState;
 import io.fabric8.kubernetes.api.model.ContainerStatus;

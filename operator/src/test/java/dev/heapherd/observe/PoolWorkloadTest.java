@@ -1,4 +1,4 @@
-package dev.heapherd.reconcile;
+package dev.heapherd.observe;
 
 import static org.assertj.core.api.Assertions.assertThat;
 

@@ -13,6 +13,7 @@ final class FakeMetrics implements MetricsSource {
 
   private volatile List<Snapshot.Workload> workloads = List.of();
   private volatile long ageSeconds;
+  private volatile RuntimeException failure;
 
   /** Measures {@code workloads} from now on. */
   void set(List<Snapshot.Workload> workloads) {
@@ -24,8 +25,16 @@ final class FakeMetrics implements MetricsSource {
     this.ageSeconds = seconds;
   }
 
+  /** Makes every measurement throw {@code failure}, as a defect in measuring would. */
+  void fail(RuntimeException failure) {
+    this.failure = failure;
+  }
+
   @Override
   public Snapshot measure(PoolFile pool, String namespace, Collection<String> names, Instant now) {
+    if (failure != null) {
+      throw failure;
+    }
     List<Snapshot.Workload> found = new ArrayList<>();
     List<Snapshot.Held> held = new ArrayList<>();
     for (String name : names) {

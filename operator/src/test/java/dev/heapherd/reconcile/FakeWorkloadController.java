@@ -1,5 +1,6 @@
 package dev.heapherd.reconcile;
 
+import dev.heapherd.observe.Observer;
 import io.fabric8.kubernetes.api.model.ContainerStateBuilder;
 import io.fabric8.kubernetes.api.model.ContainerStatusBuilder;
 import io.fabric8.kubernetes.api.model.Pod;

@@ -6,6 +6,7 @@ import static org.awaitility.Awaitility.await;
 
 import dev.heapherd.api.HeapPool;
 import dev.heapherd.input.Quantity;
+import dev.heapherd.rollout.Annotations;
 import dev.heapherd.rollout.JvmOptions;
 import io.fabric8.kubernetes.api.model.Condition;
 import io.fabric8.kubernetes.api.model.Event;
@@ -388,6 +389,50 @@ class HeapPoolReconcilerIT {
     assertThat(condition(pool("orders"), "Degraded").getMessage())
         .contains("stock-ledger (also in pool orders-copy)");
     assertThat(versions()).isEqualTo(before);
+  }
+
+  @Test
+  void jvmOptionsTheJvmWouldRefuseStopThePoolAndNothingIsPatched() {
+    // HotSpot refuses an unmatched quote in JAVA_TOOL_OPTIONS at start-up (JvmOptionsJvmIT):
+    // rewriting the heap there would roll out pods that never start.
+    Deployment d = deployment("price-engine");
+    d.getSpec()
+        .getTemplate()
+        .getSpec()
+        .getContainers()
+        .get(0)
+        .getEnv()
+        .get(0)
+        .setValue("-Xmx512m \"-Dlarkspur.zone=eu");
+    client.resource(d).update();
+    Map<String, String> before = versions();
+    start();
+    createPool("Apply", "memoryBudget: 8Gi\n  rollout:\n    approval: Automatic");
+    await().atMost(WAIT).until(() -> degradedReason("orders").equals("WorkloadNotChangeable"));
+    assertThat(condition(pool(), "Degraded").getMessage())
+        .contains("Deployment price-engine")
+        .containsIgnoringCase("quote");
+    assertThat(versions()).isEqualTo(before);
+  }
+
+  @Test
+  void anUnexpectedErrorIsReportedAsDegradedAndNothingIsPatched() {
+    metrics.fail(new IllegalStateException("window\nends before it starts"));
+    Map<String, String> before = versions();
+    start();
+    createPool("Apply", "memoryBudget: 8Gi\n  rollout:\n    approval: Automatic");
+    await().atMost(WAIT).until(() -> degradedReason("orders").equals("UnexpectedError"));
+    assertThat(condition(pool(), "Degraded").getMessage())
+        .isEqualTo(
+            "IllegalStateException: window\\nends before it starts;"
+                + " the operator log has the details");
+    assertThat(versions()).isEqualTo(before);
+    // Once measuring works again, the next wake-up (any change to a workload) clears it.
+    metrics.fail(null);
+    Deployment touched = deployment("stock-ledger");
+    touched.getMetadata().setAnnotations(Map.of("larkspur.example/touched", "yes"));
+    client.resource(touched).update();
+    await().atMost(WAIT).until(() -> degradedReason("orders").isEmpty());
   }
 
   @Test

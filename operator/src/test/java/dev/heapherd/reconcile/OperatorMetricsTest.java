@@ -62,4 +62,36 @@ class OperatorMetricsTest {
     assertThat(timer.count()).isEqualTo(1);
     assertThat(timer.totalTime(java.util.concurrent.TimeUnit.MILLISECONDS)).isEqualTo(40);
   }
+
+  @Test
+  void theSeriesOfADeletedPoolAndOfAWorkloadThatLeftGoAway() {
+    metrics.heap("larkspur", "orders", "price-engine", 512L << 20, 900L << 20);
+    metrics.heap("larkspur", "orders", "stock-ledger", 1024L << 20, 700L << 20);
+    metrics.predictedGc("larkspur", "orders", 120.5, 80.25);
+    metrics.reconciled("larkspur", "returns", Duration.ofMillis(40));
+    metrics.predictedGc("larkspur", "returns", 10, 8);
+
+    metrics.retain(
+        java.util.Set.of("larkspur/orders"),
+        java.util.Map.of("larkspur/orders", java.util.Set.of("price-engine")));
+
+    assertThat(registry.find("heapherd.workload.heap.current").tag("pool", "orders").gauges())
+        .extracting(g -> g.getId().getTag("workload"))
+        .containsExactly("price-engine");
+    assertThat(registry.find("heapherd.pool.gc.predicted.current").tag("pool", "orders").gauge())
+        .isNotNull();
+    assertThat(registry.find("heapherd.reconcile.duration").tag("pool", "returns").timer())
+        .isNull();
+    assertThat(registry.find("heapherd.pool.gc.predicted.current").tag("pool", "returns").gauge())
+        .isNull();
+    // A workload that comes back is measured again, not stuck on a removed gauge.
+    metrics.heap("larkspur", "orders", "stock-ledger", 800L << 20, 700L << 20);
+    assertThat(
+            registry
+                .get("heapherd.workload.heap.current")
+                .tag("workload", "stock-ledger")
+                .gauge()
+                .value())
+        .isEqualTo(800L << 20);
+  }
 }
