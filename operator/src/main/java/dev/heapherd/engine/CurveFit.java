@@ -1,6 +1,7 @@
 package dev.heapherd.engine;
 
 import java.util.ArrayList;
+import java.util.Comparator;
 import java.util.List;
 
 /**
@@ -59,7 +60,7 @@ public final class CurveFit {
    */
   public static GcModel fit(GcModel calibrated, List<CurvePoint> all, long liveBytes) {
     Generations g = calibrated.generations();
-    List<CurvePoint> points = aboveLive(all, g, liveBytes);
+    List<CurvePoint> points = nonIncreasing(aboveLive(all, g, liveBytes), false);
     if (distinctHeaps(points) < POINTS_FOR_TWO_TERMS) {
       return calibrated;
     }
@@ -91,7 +92,7 @@ public final class CurveFit {
    */
   public static GcModel fitOnOldHeadroom(GcModel calibrated, List<CurvePoint> all, long liveBytes) {
     Generations g = calibrated.generations();
-    List<CurvePoint> points = aboveLive(all, g, liveBytes);
+    List<CurvePoint> points = nonIncreasing(aboveLive(all, g, liveBytes), true);
     if (distinctHeaps(points) < POINTS_FOR_TWO_TERMS) {
       return calibrated;
     }
@@ -112,6 +113,82 @@ public final class CurveFit {
   private static List<CurvePoint> aboveLive(
       List<CurvePoint> points, Generations g, long liveBytes) {
     return points.stream().filter(p -> headroom(p, g, liveBytes) > 0).toList();
+  }
+
+  /**
+   * The points in heap order with their GC times made non-increasing in the heap, as every curve of
+   * the model is: a point that measured more GC time at a larger heap than a smaller one (a noisy
+   * window, a collector's phase) is pooled with its neighbours instead of bending the curve the
+   * wrong way. With {@code total} the whole GC time is pooled (each part scaled alike), else the
+   * young and the old part each on its own.
+   */
+  static List<CurvePoint> nonIncreasing(List<CurvePoint> points, boolean total) {
+    List<CurvePoint> sorted =
+        points.stream().sorted(Comparator.comparingLong(CurvePoint::heapBytes)).toList();
+    int n = sorted.size();
+    double[] young = new double[n];
+    double[] old = new double[n];
+    for (int i = 0; i < n; i++) {
+      young[i] = sorted.get(i).youngGcSecondsPerSecond();
+      old[i] = sorted.get(i).oldGcSecondsPerSecond();
+    }
+    List<CurvePoint> out = new ArrayList<>();
+    if (total) {
+      double[] sum = new double[n];
+      for (int i = 0; i < n; i++) {
+        sum[i] = young[i] + old[i];
+      }
+      double[] pooled = poolAdjacentViolators(sum);
+      for (int i = 0; i < n; i++) {
+        CurvePoint p = sorted.get(i);
+        double scale = sum[i] > 0 ? pooled[i] / sum[i] : 0;
+        out.add(
+            sum[i] > 0
+                ? new CurvePoint(p.heapBytes(), p.liveBytes(), young[i] * scale, old[i] * scale)
+                : new CurvePoint(p.heapBytes(), p.liveBytes(), 0, pooled[i]));
+      }
+    } else {
+      double[] y = poolAdjacentViolators(young);
+      double[] o = poolAdjacentViolators(old);
+      for (int i = 0; i < n; i++) {
+        CurvePoint p = sorted.get(i);
+        out.add(new CurvePoint(p.heapBytes(), p.liveBytes(), y[i], o[i]));
+      }
+    }
+    return out;
+  }
+
+  /**
+   * The non-increasing sequence nearest to {@code y} in least squares, by pooling adjacent
+   * violators (isotonic regression; Ayer, Brunk, Ewing, Reid and Silverman, "An empirical
+   * distribution function for sampling with incomplete information", Annals of Mathematical
+   * Statistics, 1955): each run that rises is replaced by its mean until none does.
+   */
+  static double[] poolAdjacentViolators(double[] y) {
+    int n = y.length;
+    double[] mean = new double[n];
+    int[] count = new int[n];
+    int blocks = 0;
+    for (double v : y) {
+      mean[blocks] = v;
+      count[blocks] = 1;
+      blocks++;
+      while (blocks > 1 && mean[blocks - 2] < mean[blocks - 1]) {
+        int merged = count[blocks - 2] + count[blocks - 1];
+        mean[blocks - 2] =
+            (mean[blocks - 2] * count[blocks - 2] + mean[blocks - 1] * count[blocks - 1]) / merged;
+        count[blocks - 2] = merged;
+        blocks--;
+      }
+    }
+    double[] out = new double[n];
+    int i = 0;
+    for (int b = 0; b < blocks; b++) {
+      for (int c = 0; c < count[b]; c++) {
+        out[i++] = mean[b];
+      }
+    }
+    return out;
   }
 
   private static double headroom(CurvePoint p, Generations g, long liveBytes) {
