@@ -2,6 +2,7 @@ package dev.heapherd.api;
 
 import com.fasterxml.jackson.annotation.JsonInclude;
 import com.fasterxml.jackson.annotation.JsonPropertyDescription;
+import dev.heapherd.input.PoolFile;
 import io.fabric8.crd.generator.annotation.SchemaFrom;
 import io.fabric8.generator.annotation.Default;
 import io.fabric8.generator.annotation.Pattern;
@@ -17,9 +18,11 @@ import java.util.List;
     message = "set exactly one of memoryBudget or prices")
 public class HeapPoolSpec {
 
+  // A string with the enum's schema: a value the schema would reject then reaches the reconciler
+  // as text and is reported in a condition, instead of failing to deserialise in the informer.
   @JsonPropertyDescription("DryRun publishes proposals and changes nothing; Apply rolls them out.")
   @Default("DryRun")
-  @SchemaFrom(type = Mode.class)
+  @SchemaFrom(type = PoolFile.Mode.class)
   public String mode;
 
   @JsonPropertyDescription(
@@ -52,16 +55,6 @@ public class HeapPoolSpec {
           + " approval changes workloads only while this equals the current proposal's hash.")
   @Pattern(Patterns.HASH)
   public String approvedProposal;
-
-  /**
-   * Whether the operator may change workloads. Fields typed by an enum are strings in Java with the
-   * enum's schema: a value the schema would reject then reaches the reconciler as text and is
-   * reported in a condition, instead of failing to deserialise in the informer.
-   */
-  public enum Mode {
-    DryRun,
-    Apply
-  }
 
   /** Prices for the price objective. */
   @JsonInclude(JsonInclude.Include.NON_NULL)

@@ -21,7 +21,7 @@ import java.util.Map;
 public record PoolFile(
     String name,
     String namespace,
-    String mode,
+    Mode mode,
     Objective objective,
     Map<String, String> matchLabels,
     WorkloadSettings defaults,
@@ -29,6 +29,19 @@ public record PoolFile(
     Metrics metrics,
     Rollout rollout,
     String approvedProposal) {
+
+  /** Whether heapherd may change the pool's workloads. */
+  public enum Mode {
+    /** Publish proposals and change nothing. */
+    DryRun,
+    /** Roll proposals out. */
+    Apply
+  }
+
+  /** True when the pool may change its workloads. */
+  public boolean applies() {
+    return mode == Mode.Apply;
+  }
 
   /**
    * How Apply mode changes workloads and the rails that keep it safe.

@@ -23,6 +23,14 @@ public record Snapshot(
   }
 
   /**
+   * Memory the held workloads' containers use now, as far as the snapshot knows it: they are not
+   * resized, but they still take their share of the budget.
+   */
+  public long heldMemoryBytes() {
+    return held.stream().mapToLong(Held::memoryBytes).sum();
+  }
+
+  /**
    * A workload that was found but not measured well enough to plan: it keeps its sizes.
    *
    * @param name the workload

@@ -10,13 +10,9 @@ import io.fabric8.kubernetes.api.model.ContainerStatus;
 import io.fabric8.kubernetes.api.model.EnvVar;
 import io.fabric8.kubernetes.api.model.Pod;
 import io.fabric8.kubernetes.api.model.PodTemplateSpec;
-import java.nio.charset.StandardCharsets;
-import java.security.MessageDigest;
-import java.security.NoSuchAlgorithmException;
 import java.time.Instant;
 import java.time.OffsetDateTime;
 import java.time.format.DateTimeParseException;
-import java.util.HexFormat;
 import java.util.List;
 import java.util.Objects;
 import java.util.Optional;
@@ -45,8 +41,6 @@ public final class Observer {
    * start-up load and the first collections of a slow machine.
    */
   public static final long SETTLE_SECONDS = 30;
-
-  private static final int FINGERPRINT_HEX = 16;
 
   private Observer() {}
 
@@ -109,14 +103,7 @@ public final class Observer {
       text.append(resources == null ? "" : bytes(resources.getRequests()));
       text.append('\n');
     }
-    try {
-      byte[] digest =
-          MessageDigest.getInstance("SHA-256")
-              .digest(text.toString().getBytes(StandardCharsets.UTF_8));
-      return HexFormat.of().formatHex(digest).substring(0, FINGERPRINT_HEX);
-    } catch (NoSuchAlgorithmException e) {
-      throw new IllegalStateException("every JVM provides SHA-256", e);
-    }
+    return ShortHash.of(text.toString());
   }
 
   private static String bytes(java.util.Map<String, io.fabric8.kubernetes.api.model.Quantity> map) {

@@ -99,7 +99,7 @@ public record PlanDocument(
   /** Builds the document from a plan and its inputs. */
   public static PlanDocument of(PoolFile pool, Snapshot snapshot, PoolPlan plan) {
     // Held workloads keep their containers: the pool's figures include what they use.
-    long held = Planner.heldMemoryBytes(snapshot);
+    long held = snapshot.heldMemoryBytes();
     List<WorkloadEntry> entries = new ArrayList<>();
     for (int i = 0; i < plan.workloads().size(); i++) {
       entries.add(entry(plan.workloads().get(i), snapshot.workloads().get(i)));

@@ -27,13 +27,29 @@ public final class Planner {
   private Planner() {}
 
   /**
-   * Plans {@code pool} from {@code snapshot}.
+   * Plans {@code pool} from {@code snapshot}, the whole budget for the measured workloads but what
+   * the held ones keep.
    *
    * @param poolFileName names the pool file in errors
    * @param snapshotFileName names the snapshot file in errors
    */
   public static PoolPlan plan(
       PoolFile pool, String poolFileName, Snapshot snapshot, String snapshotFileName)
+      throws InputException {
+    return plan(pool, poolFileName, snapshot, snapshotFileName, 0);
+  }
+
+  /**
+   * Plans {@code pool} from {@code snapshot} with {@code reservedBytes} of the budget kept for
+   * memory the plan does not size (sidecar containers, surge pods); every deduction from the budget
+   * is made here, at once.
+   */
+  public static PoolPlan plan(
+      PoolFile pool,
+      String poolFileName,
+      Snapshot snapshot,
+      String snapshotFileName,
+      long reservedBytes)
       throws InputException {
     Set<String> measured =
         snapshot.workloads().stream().map(Snapshot.Workload::name).collect(Collectors.toSet());
@@ -57,7 +73,8 @@ public final class Planner {
                   .collect(Collectors.joining(", ")));
     }
     try {
-      return Allocator.plan(workloads(pool, snapshot), withoutHeld(pool.objective(), snapshot));
+      return Allocator.plan(
+          workloads(pool, snapshot), available(pool.objective(), snapshot, reservedBytes));
     } catch (IllegalArgumentException e) {
       // Inputs were validated field by field; what is left is the pool as a whole.
       throw new InputException(
@@ -67,16 +84,15 @@ public final class Planner {
     }
   }
 
-  /** Memory the held workloads' containers use now, as far as the snapshot knows it. */
-  public static long heldMemoryBytes(Snapshot snapshot) {
-    return snapshot.held().stream().mapToLong(Snapshot.Held::memoryBytes).sum();
-  }
-
-  /** A budget less what the held workloads keep: they are not resized, but they still use it. */
-  private static Objective withoutHeld(Objective objective, Snapshot snapshot) {
+  /**
+   * A budget less what the held workloads keep (they are not resized, but they still use it) and
+   * the memory reserved beside the plan.
+   */
+  private static Objective available(Objective objective, Snapshot snapshot, long reservedBytes) {
     if (objective instanceof Objective.Budget budget) {
       // At least one byte, so an exhausted budget plans as infeasible rather than failing.
-      return new Objective.Budget(Math.max(1, budget.bytes() - heldMemoryBytes(snapshot)));
+      return new Objective.Budget(
+          Math.max(1, budget.bytes() - snapshot.heldMemoryBytes() - reservedBytes));
     }
     return objective;
   }

@@ -8,16 +8,13 @@ import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Quantity;
 import dev.heapherd.input.Snapshot;
+import dev.heapherd.observe.ShortHash;
 import dev.heapherd.plan.Planner;
 import dev.heapherd.rollout.PodTemplates;
 import dev.heapherd.rollout.RolloutPlanner.Target;
 import dev.heapherd.rollout.WorkloadState;
-import java.nio.charset.StandardCharsets;
-import java.security.MessageDigest;
-import java.security.NoSuchAlgorithmException;
 import java.time.Instant;
 import java.util.ArrayList;
-import java.util.HexFormat;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Locale;
@@ -28,9 +25,6 @@ import java.util.stream.Collectors;
 
 /** Turns a pool's measurements and observed workloads into a proposal with a content hash. */
 public final class ProposalBuilder {
-
-  /** Hex digits of the proposal hash: 64 bits, enough to tell proposals of one pool apart. */
-  private static final int HASH_HEX = 16;
 
   private static final double PERCENT = 100.0;
 
@@ -124,21 +118,18 @@ public final class ProposalBuilder {
     // with the reserve the first answer's limits need.
     long rolling = reserveSurge ? pool.rollout().maxRollingWorkloads() : 0;
     long reserve = surgeReserve(states, Map.of(), rolling);
-    PoolPlan plan =
-        Planner.plan(
-            withBudgetLess(pool, sidecarBytes + reserve), poolSource, input, snapshotSource);
+    PoolPlan plan = Planner.plan(pool, poolSource, input, snapshotSource, sidecarBytes + reserve);
     Map<String, Long> firstLimits = new LinkedHashMap<>();
     plan.workloads().forEach(w -> firstLimits.put(w.workload().name(), w.limitBytes()));
     long second = surgeReserve(states, firstLimits, rolling);
     if (second > reserve) {
-      plan =
-          Planner.plan(
-              withBudgetLess(pool, sidecarBytes + second), poolSource, input, snapshotSource);
+      plan = Planner.plan(pool, poolSource, input, snapshotSource, sidecarBytes + second);
     }
 
     HeapPoolStatus.Proposal p = new HeapPoolStatus.Proposal();
     Map<String, Target> targets = new LinkedHashMap<>();
-    long usedNow = held.stream().mapToLong(Snapshot.Held::memoryBytes).sum();
+    long heldBytes = input.heldMemoryBytes();
+    long usedNow = heldBytes;
     for (WorkloadPlan w : plan.workloads()) {
       WorkloadState s = states.get(w.workload().name());
       targets.put(w.workload().name(), new Target(w.heapBytes(), w.limitBytes()));
@@ -162,7 +153,6 @@ public final class ProposalBuilder {
       out.reason = h.reason();
       p.held.add(out);
     }
-    long heldBytes = held.stream().mapToLong(Snapshot.Held::memoryBytes).sum();
     p.memoryBudget =
         Quantity.format(
             pool.objective() instanceof Objective.Budget b ? b.bytes() : plan.budgetBytes());
@@ -254,13 +244,7 @@ public final class ProposalBuilder {
                             + "/"
                             + e.getValue().limitBytes())
                 .collect(Collectors.joining("\n"));
-    try {
-      byte[] digest =
-          MessageDigest.getInstance("SHA-256").digest(canonical.getBytes(StandardCharsets.UTF_8));
-      return HexFormat.of().formatHex(digest).substring(0, HASH_HEX);
-    } catch (NoSuchAlgorithmException e) {
-      throw new IllegalStateException("every JVM provides SHA-256", e);
-    }
+    return ShortHash.of(canonical);
   }
 
   private static Map<String, Long> heaps(HeapPoolStatus.Proposal p) {
@@ -295,22 +279,5 @@ public final class ProposalBuilder {
         m.nonHeapBytes(),
         m.evidence(),
         m.layout());
-  }
-
-  private static PoolFile withBudgetLess(PoolFile pool, long bytes) {
-    if (!(pool.objective() instanceof Objective.Budget b) || bytes == 0) {
-      return pool;
-    }
-    return new PoolFile(
-        pool.name(),
-        pool.namespace(),
-        pool.mode(),
-        new Objective.Budget(Math.max(1, b.bytes() - bytes)),
-        pool.matchLabels(),
-        pool.defaults(),
-        pool.overrides(),
-        pool.metrics(),
-        pool.rollout(),
-        pool.approvedProposal());
   }
 }

@@ -9,9 +9,7 @@ import dev.heapherd.input.Snapshot;
 import dev.heapherd.observe.Observer;
 import dev.heapherd.observe.PoolWorkload;
 import dev.heapherd.proposal.ProposalBuilder;
-import dev.heapherd.rollout.PodTemplates;
 import dev.heapherd.rollout.RolloutPlanner;
-import dev.heapherd.rollout.RolloutRecord;
 import dev.heapherd.rollout.RolloutStep;
 import dev.heapherd.rollout.WorkloadState;
 import io.fabric8.kubernetes.api.model.HasMetadata;
@@ -187,12 +185,12 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
               + spec.matchLabels());
       return false;
     }
-    String problem = checkContainers(found, spec.rollout());
+    String problem = PoolChecks.containers(found, spec.rollout());
     if (!problem.isEmpty()) {
       v.degraded("WorkloadNotChangeable", problem);
       return false;
     }
-    String shared = sharedWithOtherPools(v.pool(), found, poolsOfNamespace);
+    String shared = PoolChecks.sharedWithOtherPools(v.pool(), found, poolsOfNamespace);
     if (!shared.isEmpty()) {
       v.degraded("WorkloadInTwoPools", shared);
       return false;
@@ -213,7 +211,7 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
     v.propose(spec, states, kinds(selected), snapshot, keep, meters);
 
     List<RolloutStep> steps = List.of();
-    if ("Apply".equals(spec.mode())) {
+    if (spec.applies()) {
       HeapPoolStatus.Proposal p = v.status().proposal;
       var gates =
           new RolloutPlanner.Gates(
@@ -233,60 +231,12 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
               new ArrayList<>(states.values()),
               p == null ? Map.of() : ProposalBuilder.targets(p),
               gates);
+      StepTaker taker = new StepTaker(writer, meters);
       for (RolloutStep step : steps) {
-        take(step, v, spec, selected.get(step.workload()), states.get(step.workload()), writer);
+        taker.take(step, v, spec, selected.get(step.workload()), states.get(step.workload()));
       }
     }
     return v.rolloutConditions(spec, states, steps);
-  }
-
-  private void take(
-      RolloutStep step,
-      PoolVisit v,
-      PoolFile spec,
-      PoolWorkload w,
-      WorkloadState state,
-      RolloutWriter writer) {
-    String pool = v.pool().getMetadata().getName();
-    if (step instanceof RolloutStep.Start s) {
-      HasMetadata written = writer.start(w, s, spec.rollout(), v.status().proposal.hash, v.now());
-      String reason = s.grows() ? "HeapRaised" : "HeapLowered";
-      v.act(
-          written,
-          reason,
-          state.heapBytes(),
-          s.heapBytes(),
-          "rolling to heap "
-              + PodTemplates.mebibytes(s.heapBytes())
-              + ", limit "
-              + PodTemplates.mebibytes(s.limitBytes()));
-      meters.step(v.namespace(), pool, "started");
-    } else if (step instanceof RolloutStep.Finish) {
-      HasMetadata written = writer.finish(w, v.now());
-      boolean back = state.inFlight().map(RolloutRecord::rollingBack).orElse(false);
-      v.act(
-          written,
-          back ? "RollbackFinished" : "RolloutFinished",
-          state.heapBytes(),
-          state.heapBytes(),
-          back ? "every pod runs the previous values again" : "every pod runs the new heap");
-      meters.step(v.namespace(), pool, "finished");
-    } else if (step instanceof RolloutStep.RollBack r) {
-      var record = state.inFlight().orElseThrow();
-      HasMetadata written = writer.rollBack(w, record, spec.rollout(), v.now());
-      v.act(
-          written,
-          "RolloutRolledBack",
-          record.targetHeapBytes(),
-          record.previousJvmOptions() == null
-              ? 0
-              : dev.heapherd.rollout.JvmOptions.maxHeapBytes(record.previousJvmOptions()).orElse(0),
-          r.reason() + "; previous values restored");
-      meters.step(v.namespace(), pool, "rolledBack");
-    } else if (step instanceof RolloutStep.Hold h) {
-      v.held(h);
-      meters.railTripped(v.namespace(), pool, h.rail().name());
-    }
   }
 
   /**
@@ -295,7 +245,7 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
    */
   private static boolean approvedAndPending(
       PoolFile spec, HeapPoolStatus.Proposal published, Map<String, WorkloadState> states) {
-    if (!"Apply".equals(spec.mode())
+    if (!spec.applies()
         || spec.rollout().automaticApproval()
         || published == null
         || !published.hash.equals(spec.approvedProposal())) {
@@ -323,67 +273,6 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
         .map(PoolWorkload::new)
         .sorted(java.util.Comparator.comparing(PoolWorkload::name))
         .toList();
-  }
-
-  /**
-   * Workloads another valid pool of the namespace also selects. Two pools resizing one workload
-   * would undo each other's changes and count its memory twice, so both stop until an admin narrows
-   * a selector.
-   */
-  private static String sharedWithOtherPools(
-      HeapPool pool, List<PoolWorkload> found, List<HeapPool> poolsOfNamespace) {
-    List<String> shared = new ArrayList<>();
-    for (HeapPool other : poolsOfNamespace) {
-      if (other.getMetadata().getName().equals(pool.getMetadata().getName())) {
-        continue;
-      }
-      PoolFile otherSpec;
-      try {
-        otherSpec = PoolSpecs.read(other);
-      } catch (InputException e) {
-        // An invalid pool changes nothing, so it shares nothing.
-        continue;
-      }
-      for (PoolWorkload w : found) {
-        if (w.labels().entrySet().containsAll(otherSpec.matchLabels().entrySet())) {
-          shared.add(w.name() + " (also in pool " + other.getMetadata().getName() + ")");
-        }
-      }
-    }
-    return shared.isEmpty()
-        ? ""
-        : "workloads selected by more than one pool: "
-            + String.join(", ", shared)
-            + "; narrow a selector so each workload is in one pool";
-  }
-
-  /** Why some workload cannot be resized as the spec says, or empty. */
-  private static String checkContainers(
-      java.util.Collection<PoolWorkload> workloads, PoolFile.Rollout r) {
-    List<String> problems = new ArrayList<>();
-    for (PoolWorkload w : workloads) {
-      var m = PodTemplates.read(w.template(), r.containerName(), r.jvmOptionsVariable());
-      if (m.isEmpty()) {
-        problems.add(
-            w.kind() + " " + w.name() + " has no container named \"" + r.containerName() + "\"");
-      } else if (m.get().jvmOptionsFromReference()) {
-        problems.add(
-            w.kind()
-                + " "
-                + w.name()
-                + " takes "
-                + r.jvmOptionsVariable()
-                + " from a reference (ConfigMap, Secret or field); heapherd writes only literal values");
-      } else {
-        m.get().problem().ifPresent(p -> problems.add(w.kind() + " " + w.name() + ": " + p));
-      }
-    }
-    Set<String> names = workloads.stream().map(PoolWorkload::name).collect(Collectors.toSet());
-    if (names.size() < workloads.size()) {
-      problems.add(
-          "a Deployment and a StatefulSet share a name; rename one or narrow the selector");
-    }
-    return String.join("; ", problems);
   }
 
   private static Map<String, String> kinds(Map<String, PoolWorkload> selected) {

@@ -263,7 +263,7 @@ final class PoolVisit {
         holds.stream()
             .map(h -> h.workload() + ": " + h.rail() + " (" + h.message() + ")")
             .collect(Collectors.joining("; "));
-    boolean dryRun = !"Apply".equals(spec.mode());
+    boolean dryRun = !spec.applies();
     if (!rolling.isEmpty()) {
       set(
           Conditions.ROLLOUT_IN_PROGRESS,

@@ -39,6 +39,15 @@ class AdmissionPolicyIT {
   /** May edit HeapPools and update the workloads. */
   private static final String WORKLOAD_OWNER = "oren@tidewater.example";
 
+  /** May update Deployments but not StatefulSets. */
+  private static final String DEPLOYMENT_OWNER = "ines@tidewater.example";
+
+  /** Holds only the cluster's standard view role in the namespace. */
+  private static final String VIEWER = "lena@tidewater.example";
+
+  /** Holds only the cluster's standard edit role in the namespace. */
+  private static final String EDITOR = "tomas@tidewater.example";
+
   /** The API server applies a new policy within seconds; this bounds the wait. */
   private static final Duration POLICY_ACTIVE_TIMEOUT = Duration.ofSeconds(60);
 
@@ -66,12 +75,20 @@ class AdmissionPolicyIT {
         .create();
     for (HasMetadata o : Chart.render(Map.of("prometheus.url", "http://prometheus:9090"))) {
       String kind = o.getKind();
-      if (kind.startsWith("ValidatingAdmissionPolicy")) {
+      // The policy, and the user roles that join the cluster's standard view and edit roles.
+      if (kind.startsWith("ValidatingAdmissionPolicy")
+          || (kind.equals("ClusterRole")
+              && o.getMetadata().getLabels() != null
+              && o.getMetadata().getLabels().keySet().stream()
+                  .anyMatch(l -> l.startsWith("rbac.authorization.k8s.io/aggregate-to-")))) {
         admin.resource(o).create();
       }
     }
     grant(POOL_AUTHOR, List.of());
     grant(WORKLOAD_OWNER, List.of("deployments", "statefulsets"));
+    grant(DEPLOYMENT_OWNER, List.of("deployments"));
+    bindClusterRole(VIEWER, "view");
+    bindClusterRole(EDITOR, "edit");
   }
 
   @AfterAll
@@ -87,14 +104,7 @@ class AdmissionPolicyIT {
   @Test
   void aPoolAuthorWhoMayNotUpdateTheWorkloadsCannotTurnOnApply() throws Exception {
     try (KubernetesClient author = as(POOL_AUTHOR)) {
-      await()
-          .atMost(POLICY_ACTIVE_TIMEOUT)
-          .ignoreExceptionsMatching(e -> !(e instanceof AssertionError))
-          .untilAsserted(
-              () ->
-                  assertThatThrownBy(() -> create(author, pool("policy-probe", "Apply", null)))
-                      .isInstanceOf(KubernetesClientException.class)
-                      .hasMessageContaining("may not update them there"));
+      awaitRefused(author, pool("policy-probe", "Apply", null));
       assertThat(create(author, pool("dispatch", "DryRun", null))).isNotNull();
       assertThatThrownBy(() -> create(author, pool("approved", "DryRun", "3f9c2a7b1d4e6f80")))
           .hasMessageContaining(POOL_AUTHOR + " may not update them there");
@@ -127,6 +137,81 @@ class AdmissionPolicyIT {
                   assertThat(create(owner, pool("owned", "Apply", "3f9c2a7b1d4e6f80")))
                       .isNotNull());
     }
+  }
+
+  @Test
+  void anOwnerOfDeploymentsOnlyCannotTurnOnApply() throws Exception {
+    try (KubernetesClient owner = as(DEPLOYMENT_OWNER)) {
+      awaitRefused(owner, pool("half-owned", "Apply", null));
+    }
+  }
+
+  @Test
+  void theStandardViewAndEditRolesCarryTheChartsUserRoles() throws Exception {
+    // The cluster-role aggregation controller (kube-controller-manager) copies the chart's rules
+    // into view and edit; until it has, the users below are refused.
+    try (KubernetesClient viewer = as(VIEWER);
+        KubernetesClient editor = as(EDITOR)) {
+      await()
+          .atMost(POLICY_ACTIVE_TIMEOUT)
+          .ignoreExceptionsMatching(e -> !(e instanceof AssertionError))
+          .untilAsserted(
+              () -> assertThat(create(editor, pool("edited", "DryRun", null))).isNotNull());
+      await()
+          .atMost(POLICY_ACTIVE_TIMEOUT)
+          .ignoreExceptionsMatching(e -> !(e instanceof AssertionError))
+          .untilAsserted(
+              () ->
+                  assertThat(
+                          viewer
+                              .genericKubernetesResources(HEAP_POOLS)
+                              .inNamespace(NAMESPACE)
+                              .withName("edited")
+                              .get())
+                      .isNotNull());
+      assertThatThrownBy(() -> create(viewer, pool("viewed", "DryRun", null)))
+          .isInstanceOf(KubernetesClientException.class)
+          .hasMessageContaining("forbidden");
+      // edit may update Deployments and StatefulSets, so its holder may also turn on Apply.
+      assertThat(create(editor, pool("edited-apply", "Apply", null))).isNotNull();
+    }
+  }
+
+  /** Waits until the policy is active and refuses {@code p} from {@code c}. */
+  private static void awaitRefused(KubernetesClient c, GenericKubernetesResource p) {
+    await()
+        .atMost(POLICY_ACTIVE_TIMEOUT)
+        .ignoreExceptionsMatching(e -> !(e instanceof AssertionError))
+        .untilAsserted(
+            () ->
+                assertThatThrownBy(() -> create(c, p))
+                    .isInstanceOf(KubernetesClientException.class)
+                    .hasMessageContaining("may not update them there"));
+  }
+
+  /** Binds {@code user} to one of the cluster's standard roles in the namespace. */
+  private static void bindClusterRole(String user, String clusterRole) {
+    bind(user, "ClusterRole", clusterRole);
+  }
+
+  private static void bind(String user, String roleKind, String roleName) {
+    admin
+        .rbac()
+        .roleBindings()
+        .resource(
+            new RoleBindingBuilder()
+                .withNewMetadata()
+                .withName(user.substring(0, user.indexOf('@')))
+                .withNamespace(NAMESPACE)
+                .endMetadata()
+                .withNewRoleRef("rbac.authorization.k8s.io", roleKind, roleName)
+                .addNewSubject()
+                .withKind("User")
+                .withApiGroup("rbac.authorization.k8s.io")
+                .withName(user)
+                .endSubject()
+                .build())
+        .create();
   }
 
   private static GenericKubernetesResource create(KubernetesClient c, GenericKubernetesResource p) {
@@ -179,23 +264,7 @@ class AdmissionPolicyIT {
           .endRule();
     }
     admin.rbac().roles().resource(role.build()).create();
-    admin
-        .rbac()
-        .roleBindings()
-        .resource(
-            new RoleBindingBuilder()
-                .withNewMetadata()
-                .withName(name)
-                .withNamespace(NAMESPACE)
-                .endMetadata()
-                .withNewRoleRef("rbac.authorization.k8s.io", "Role", name)
-                .addNewSubject()
-                .withKind("User")
-                .withApiGroup("rbac.authorization.k8s.io")
-                .withName(user)
-                .endSubject()
-                .build())
-        .create();
+    bind(user, "Role", name);
   }
 
   /** A client that acts as {@code user} through the admin's impersonation right. */

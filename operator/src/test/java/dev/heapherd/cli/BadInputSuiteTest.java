@@ -134,6 +134,13 @@ class BadInputSuiteTest {
         List.of(
             new String[] {LIMIT, "limits:\n              memory: 512m"},
             new String[] {LIMIT, "limits:\n              memory: *m"},
+            // A selector shared by alias: written anew, "*app" became the text "app".
+            new String[] {
+              "      app.kubernetes.io/name: warehouse-sync\n  template:\n    metadata:\n"
+                  + "      labels:\n        app.kubernetes.io/name: warehouse-sync",
+              "      app.kubernetes.io/name: &app warehouse-sync\n  template:\n    metadata:\n"
+                  + "      labels:\n        app.kubernetes.io/name: *app"
+            },
             new String[] {"-Xmx1g", "-Xmx1g \\\"-Dx=unclosed"},
             new String[] {NAME, "name: \"ware\\u001bhouse\"\n  labels:"},
             new String[] {NAME, "name: \"warehouse\\nsync\"\n  labels:"})) {

@@ -31,7 +31,7 @@ class PoolFileReaderTest {
 
     assertThat(pool.name()).isEqualTo("checkout");
     assertThat(pool.namespace()).isEqualTo("shop");
-    assertThat(pool.mode()).isEqualTo("DryRun");
+    assertThat(pool.mode()).isEqualTo(PoolFile.Mode.DryRun);
     assertThat(pool.objective()).isEqualTo(new Objective.Budget(12 * GIB));
     assertThat(pool.matchLabels()).isEqualTo(Map.of("heapherd.dev/pool", "checkout"));
     assertThat(pool.overrides())
@@ -64,7 +64,7 @@ class PoolFileReaderTest {
     PoolFile pool = PoolFileReader.read(write(dir, "pool.yaml", minimal));
 
     assertThat(pool.namespace()).isEmpty();
-    assertThat(pool.mode()).isEqualTo("DryRun");
+    assertThat(pool.mode()).isEqualTo(PoolFile.Mode.DryRun);
     assertThat(pool.objective()).isEqualTo(new Objective.Budget(8 * GIB));
     assertThat(pool.overrides()).isEmpty();
     assertThat(pool.settingsFor("any")).isEqualTo(WorkloadSettings.BUILT_IN);

@@ -94,4 +94,33 @@ class OperatorMetricsTest {
                 .value())
         .isEqualTo(800L << 20);
   }
+
+  @Test
+  void everySeriesTheOperatingGuideListsIsServedUnderThatName() throws Exception {
+    var prometheus =
+        new io.micrometer.prometheusmetrics.PrometheusMeterRegistry(
+            io.micrometer.prometheusmetrics.PrometheusConfig.DEFAULT);
+    OperatorMetrics served = new OperatorMetrics(prometheus);
+    served.heap("larkspur", "orders", "price-engine", 512L << 20, 900L << 20);
+    served.predictedGc("larkspur", "orders", 120.5, 80.25);
+    served.checkedGc("larkspur", "orders", "price-engine", 30, 28);
+    served.step("larkspur", "orders", "started");
+    served.railTripped("larkspur", "orders", "Budget");
+    served.reconciled("larkspur", "orders", Duration.ofMillis(40));
+    String scrape = prometheus.scrape();
+
+    String guide =
+        java.nio.file.Files.readString(java.nio.file.Path.of("..", "docs", "operating.md"));
+    var names = java.util.regex.Pattern.compile("`(heapherd_[a-z_]+)`").matcher(guide);
+    int listed = 0;
+    while (names.find()) {
+      listed++;
+      String name = names.group(1);
+      // A timer is served as its _count, _sum and _max series.
+      assertThat(scrape.contains(name + "{") || scrape.contains(name + "_count{"))
+          .as("series %s in %s", name, scrape)
+          .isTrue();
+    }
+    assertThat(listed).isGreaterThanOrEqualTo(9);
+  }
 }
