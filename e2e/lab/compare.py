@@ -24,9 +24,10 @@ from pathlib import Path
 import yaml
 
 ROOT = Path(__file__).resolve().parents[2]
-LAB_JAR = ROOT / "e2e" / "lab" / "target" / "heapherd-lab.jar"
+BUILT_LAB_JAR = ROOT / "e2e" / "lab" / "target" / "heapherd-lab.jar"
 BUILT_HEAPHERD_JAR = ROOT / "operator" / "target" / "heapherd.jar"
-# The jar the lab runs: a copy made at start, so a rebuild during a long run changes nothing.
+# The jars the lab runs: copies made at start, so a rebuild during a long run changes nothing.
+LAB_JAR = BUILT_LAB_JAR
 HEAPHERD_JAR = BUILT_HEAPHERD_JAR
 MIB = 1 << 20
 
@@ -309,10 +310,12 @@ def main():
     parser.add_argument("--work", default=str(ROOT / "e2e" / "lab" / "target" / "lab-runs"))
     parser.add_argument("--results", default=str(ROOT / "docs" / "lab"))
     args = parser.parse_args()
-    global HEAPHERD_JAR
+    global HEAPHERD_JAR, LAB_JAR
     Path(args.work).mkdir(parents=True, exist_ok=True)
     HEAPHERD_JAR = Path(args.work) / "heapherd.jar"
     shutil.copyfile(BUILT_HEAPHERD_JAR, HEAPHERD_JAR)
+    LAB_JAR = Path(args.work) / "heapherd-lab.jar"
+    shutil.copyfile(BUILT_LAB_JAR, LAB_JAR)
     results = Path(args.results)
     results.mkdir(parents=True, exist_ok=True)
     for collector in args.collectors.split(","):
