@@ -12,6 +12,9 @@ import java.util.List;
  * with, not each point's own: the live estimate of a point drifts with its heap (a larger heap is
  * collected later and floats more garbage), and a curve fitted on one live but read with another
  * misses its own points, most of all at the smallest heaps. Pure: no I/O.
+ *
+ * <p>Over 250 lines because the fit, its bounded least squares and the pooling of adjacent
+ * violators that precedes it are one estimator, read and checked together (docs/model.md).
  */
 public final class CurveFit {
 

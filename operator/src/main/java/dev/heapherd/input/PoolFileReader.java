@@ -11,7 +11,12 @@ import java.util.Set;
 import java.util.regex.Pattern;
 import java.util.stream.Collectors;
 
-/** Reads and validates a HeapPool file. */
+/**
+ * Reads and validates a HeapPool file.
+ *
+ * <p>Over 250 lines: every field of the pool, its defaults and its range, in the order the
+ * reference (docs/heappool.md) lists them, so that the two can be compared line by line.
+ */
 public final class PoolFileReader {
 
   /** The only API version this build understands. */

@@ -1,6 +1,5 @@
 package dev.heapherd.metrics;
 
-import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import java.io.ByteArrayInputStream;
@@ -34,7 +33,12 @@ import java.util.concurrent.atomic.AtomicBoolean;
 import javax.net.ssl.SSLContext;
 import javax.net.ssl.TrustManagerFactory;
 
-/** A small client of the Prometheus HTTP API (instant queries), with one-line errors. */
+/**
+ * A small client of the Prometheus HTTP API (instant queries), with one-line errors.
+ *
+ * <p>Over 250 lines because every exchange passes the same guards, kept in one class so none can be
+ * bypassed: no redirects, a deadline over the whole body, a size cap, the token redacted.
+ */
 public final class PrometheusClient {
 
   private static final ObjectMapper JSON = new ObjectMapper();
@@ -48,10 +52,23 @@ public final class PrometheusClient {
   private static final String REDACTED = "(token)";
 
   /**
-   * Largest answer read, our choice: one series per pod at about 200 bytes each leaves room for
-   * 100,000 pods, and a bigger body is a wrong query or a wrong server, not data.
+   * Largest answer read at all, our choice: one series per pod at about 200 bytes each leaves room
+   * for 100,000 pods, and a bigger body is a wrong query or a wrong server, not data.
    */
-  static final int MAX_BODY_BYTES = 64 << 20;
+  static final int MAX_BODY_BYTES_CEILING = 64 << 20;
+
+  /**
+   * Heap per byte of body allowed: the body, its parsed tree (several times the text: a node per
+   * label and value) and the process's own caches must fit in the heap together, so a small heap
+   * (the operator's default 192 MiB) reads at most a thirty-second of it. Our choice.
+   */
+  static final int HEAP_BYTES_PER_BODY_BYTE = 32;
+
+  /** Smallest cap, whatever the heap: a few thousand series always fit. Our choice. */
+  static final int MIN_BODY_BYTES = 1 << 20;
+
+  /** The cap of this process, from the heap it runs with. */
+  static final int MAX_BODY_BYTES = bodyCapBytes(Runtime.getRuntime().maxMemory());
 
   private static final int MIB_SHIFT = 20;
 
@@ -210,7 +227,7 @@ public final class PrometheusClient {
    * covers only the headers, so a server sending one byte a second, or a body without end, is cut
    * off here.
    */
-  private String body(InputStream in, Instant deadline) throws MetricsException {
+  private byte[] body(InputStream in, Instant deadline) throws MetricsException {
     AtomicBoolean cutOff = new AtomicBoolean();
     long remainingMillis = Math.max(1, Duration.between(Instant.now(), deadline).toMillis());
     ScheduledFuture<?> guard =
@@ -231,9 +248,11 @@ public final class PrometheusClient {
             MetricsException.Kind.BAD_RESPONSE,
             "Prometheus sent more than "
                 + (MAX_BODY_BYTES >> MIB_SHIFT)
-                + " MiB for one query; narrow the selector or the query");
+                + " MiB for one query, the most a heap of "
+                + (Runtime.getRuntime().maxMemory() >> MIB_SHIFT)
+                + " MiB reads; narrow the selector or the query, or give the process more heap");
       }
-      return new String(bytes, StandardCharsets.UTF_8);
+      return bytes;
     } catch (IOException e) {
       if (cutOff.get()) {
         throw timedOut();
@@ -246,6 +265,12 @@ public final class PrometheusClient {
     }
   }
 
+  /** The largest body a process with {@code maxHeapBytes} of heap reads. */
+  static int bodyCapBytes(long maxHeapBytes) {
+    long share = maxHeapBytes / HEAP_BYTES_PER_BODY_BYTE;
+    return (int) Math.max(MIN_BODY_BYTES, Math.min(MAX_BODY_BYTES_CEILING, share));
+  }
+
   private static void closeQuietly(InputStream in) {
     try {
       in.close();
@@ -254,14 +279,14 @@ public final class PrometheusClient {
     }
   }
 
-  private Answer data(int status, String text) throws MetricsException {
+  private Answer data(int status, byte[] bytes) throws MetricsException {
     JsonNode body;
     try {
-      body = JSON.readTree(text);
-    } catch (JsonProcessingException e) {
+      body = JSON.readTree(bytes);
+    } catch (IOException e) {
       body = null;
     }
-    String detail = describe(body == null ? "" : body.path("error").asText(""), text);
+    String detail = describe(body == null ? "" : body.path("error").asText(""), bytes.length);
     if (status >= 500) {
       throw new MetricsException(
           MetricsException.Kind.SERVER_ERROR, "Prometheus failed (HTTP " + status + "): " + detail);
@@ -314,9 +339,9 @@ public final class PrometheusClient {
 
   // Only Prometheus' own error text is quoted: any other body (a proxy's page) may echo request
   // headers, the bearer token among them, so it is described by its size alone.
-  private String describe(String apiError, String body) {
+  private String describe(String apiError, int bodyBytes) {
     if (apiError.isEmpty()) {
-      return "a body that is not a Prometheus error (" + body.length() + " characters)";
+      return "a body that is not a Prometheus error (" + bodyBytes + " bytes)";
     }
     return quotable(apiError);
   }

@@ -12,6 +12,9 @@ import java.util.Optional;
  * "MarkSweepCompact", "PS MarkSweep", "G1 Old Generation", "G1 Concurrent GC" (JDK 20+); the
  * concurrent collectors' "ZGC Cycles", "ZGC Major Cycles", "Shenandoah Cycles"; old pools "Tenured
  * Gen", "PS Old Gen", "G1 Old Gen", and the single-pool "ZHeap" and "Shenandoah".
+ *
+ * <p>Over 250 lines because it is data: every query of every profile in one place, where an
+ * operator looking for what heapherd asks Prometheus can read them all.
  */
 public final class QueryProfiles {
 

@@ -19,7 +19,6 @@ import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Locale;
 import java.util.Map;
-import java.util.Set;
 import java.util.TreeMap;
 import java.util.stream.Collectors;
 
@@ -172,32 +171,6 @@ public final class ProposalBuilder {
   }
 
   /**
-   * The proposal to publish: the previous one while every workload's new heap is within {@code
-   * thresholdPercent} of it, so an approved hash survives the noise of fresh measurements.
-   */
-  public static HeapPoolStatus.Proposal sticky(
-      HeapPoolStatus.Proposal previous, HeapPoolStatus.Proposal fresh, long thresholdPercent) {
-    if (previous == null || previous.hash == null) {
-      return fresh;
-    }
-    Map<String, Long> old = heaps(previous);
-    Map<String, Long> now = heaps(fresh);
-    if (!old.keySet().equals(now.keySet())) {
-      return fresh;
-    }
-    for (var e : now.entrySet()) {
-      long was = old.get(e.getKey());
-      if (was <= 0 || PERCENT * Math.abs(e.getValue() - was) / was >= thresholdPercent) {
-        return fresh;
-      }
-    }
-    if (!sameHeld(previous, fresh)) {
-      return fresh;
-    }
-    return previous;
-  }
-
-  /**
    * Memory the surge pods of the {@code rolling} largest rollouts need: per workload its surge pods
    * at the larger of today's pod limit and the planned one.
    */
@@ -245,18 +218,6 @@ public final class ProposalBuilder {
                             + e.getValue().limitBytes())
                 .collect(Collectors.joining("\n"));
     return ShortHash.of(canonical);
-  }
-
-  private static Map<String, Long> heaps(HeapPoolStatus.Proposal p) {
-    Map<String, Long> out = new TreeMap<>();
-    p.workloads.forEach(w -> out.put(w.name, Quantity.parseBytes(w.proposedHeap)));
-    return out;
-  }
-
-  private static boolean sameHeld(HeapPoolStatus.Proposal a, HeapPoolStatus.Proposal b) {
-    Set<String> x = a.held.stream().map(h -> h.name).collect(Collectors.toSet());
-    Set<String> y = b.held.stream().map(h -> h.name).collect(Collectors.toSet());
-    return x.equals(y);
   }
 
   private static String seconds(double value) {

@@ -8,38 +8,25 @@ import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Snapshot;
 import dev.heapherd.observe.Observer;
 import dev.heapherd.observe.PoolWorkload;
-import dev.heapherd.proposal.ProposalBuilder;
-import dev.heapherd.rollout.RolloutPlanner;
 import dev.heapherd.rollout.RolloutStep;
 import dev.heapherd.rollout.WorkloadState;
-import io.fabric8.kubernetes.api.model.HasMetadata;
 import io.fabric8.kubernetes.api.model.Pod;
-import io.fabric8.kubernetes.api.model.apps.Deployment;
-import io.fabric8.kubernetes.api.model.apps.StatefulSet;
 import io.fabric8.kubernetes.client.KubernetesClientException;
 import io.fabric8.kubernetes.client.utils.KubernetesSerialization;
-import io.javaoperatorsdk.operator.api.config.informer.InformerEventSourceConfiguration;
 import io.javaoperatorsdk.operator.api.reconciler.Context;
 import io.javaoperatorsdk.operator.api.reconciler.ControllerConfiguration;
 import io.javaoperatorsdk.operator.api.reconciler.EventSourceContext;
 import io.javaoperatorsdk.operator.api.reconciler.MaxReconciliationInterval;
 import io.javaoperatorsdk.operator.api.reconciler.Reconciler;
 import io.javaoperatorsdk.operator.api.reconciler.UpdateControl;
-import io.javaoperatorsdk.operator.processing.event.ResourceID;
 import io.javaoperatorsdk.operator.processing.event.source.EventSource;
-import io.javaoperatorsdk.operator.processing.event.source.informer.InformerEventSource;
 import java.time.Clock;
 import java.time.Duration;
 import java.time.Instant;
-import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
-import java.util.OptionalLong;
-import java.util.Set;
 import java.util.concurrent.TimeUnit;
-import java.util.stream.Collectors;
-import java.util.stream.Stream;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
@@ -70,9 +57,7 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
   private final MetricsSource metrics;
   private final Clock clock;
   private final OperatorMetrics meters;
-  private InformerEventSource<Deployment, HeapPool> deployments;
-  private InformerEventSource<StatefulSet, HeapPool> statefulSets;
-  private InformerEventSource<Pod, HeapPool> pods;
+  private WorkloadCaches caches;
 
   /** A reconciler measuring through {@code metrics}. */
   public HeapPoolReconciler(MetricsSource metrics, Clock clock, OperatorMetrics meters) {
@@ -83,26 +68,8 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
 
   @Override
   public List<EventSource<?, HeapPool>> prepareEventSources(EventSourceContext<HeapPool> context) {
-    deployments = informer(Deployment.class, context);
-    statefulSets = informer(StatefulSet.class, context);
-    pods = informer(Pod.class, context);
-    return List.of(deployments, statefulSets, pods);
-  }
-
-  /** Any change to a workload or pod wakes every pool of its namespace. */
-  private static <R extends HasMetadata> InformerEventSource<R, HeapPool> informer(
-      Class<R> type, EventSourceContext<HeapPool> context) {
-    var config =
-        InformerEventSourceConfiguration.from(type, HeapPool.class)
-            .withSecondaryToPrimaryMapper(
-                (R r) ->
-                    context
-                        .getPrimaryCache()
-                        .list(r.getMetadata().getNamespace())
-                        .map(ResourceID::fromResource)
-                        .collect(Collectors.toSet()))
-            .build();
-    return new InformerEventSource<>(config, context);
+    caches = new WorkloadCaches(context);
+    return caches.sources();
   }
 
   @Override
@@ -135,7 +102,7 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
     status.observedGeneration = pool.getMetadata().getGeneration();
     meters.reconciled(
         visit.namespace(), pool.getMetadata().getName(), Duration.between(now, clock.instant()));
-    retainMeters(context, pool, status);
+    meters.retainAfterVisit(context.getPrimaryCache().list(), pool, status);
     UpdateControl<HeapPool> control;
     if (JSON.asJson(status).equals(before == null ? "" : JSON.asJson(before))) {
       control = UpdateControl.noUpdate();
@@ -144,26 +111,6 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
       control = UpdateControl.patchStatus(pool);
     }
     return rolling ? control.rescheduleAfter(ROLLING_RECHECK) : control;
-  }
-
-  /**
-   * Drops the meters of pools that no longer exist and of workloads this pool no longer proposes
-   * for. Pools carry no finalizer, so a deleted pool is noticed here, at the next visit of any.
-   */
-  private void retainMeters(Context<HeapPool> context, HeapPool pool, HeapPoolStatus status) {
-    Set<String> pools =
-        context
-            .getPrimaryCache()
-            .list()
-            .map(p -> p.getMetadata().getNamespace() + "/" + p.getMetadata().getName())
-            .collect(Collectors.toSet());
-    Map<String, Set<String>> workloads = new java.util.HashMap<>();
-    if (status.proposal != null) {
-      workloads.put(
-          pool.getMetadata().getNamespace() + "/" + pool.getMetadata().getName(),
-          status.proposal.workloads.stream().map(w -> w.name).collect(Collectors.toSet()));
-    }
-    meters.retain(pools, workloads);
   }
 
   /** One visit: returns whether a rollout is running, so the pool is looked at again soon. */
@@ -175,29 +122,15 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
       v.degraded("InvalidSpec", e.getMessage());
       return false;
     }
-    List<PoolWorkload> found = select(v.namespace(), spec);
-    if (found.isEmpty()) {
-      v.degraded(
-          "NoWorkloads",
-          "no Deployment or StatefulSet in namespace "
-              + v.namespace()
-              + " carries the labels "
-              + spec.matchLabels());
-      return false;
-    }
-    String problem = PoolChecks.containers(found, spec.rollout());
-    if (!problem.isEmpty()) {
-      v.degraded("WorkloadNotChangeable", problem);
-      return false;
-    }
-    String shared = PoolChecks.sharedWithOtherPools(v.pool(), found, poolsOfNamespace);
-    if (!shared.isEmpty()) {
-      v.degraded("WorkloadInTwoPools", shared);
+    List<PoolWorkload> found = caches.select(v.namespace(), spec);
+    var problem = PoolChecks.firstProblem(v.pool(), spec, found, poolsOfNamespace);
+    if (problem.isPresent()) {
+      v.degraded(problem.get().reason(), problem.get().message());
       return false;
     }
     Map<String, PoolWorkload> selected = new LinkedHashMap<>();
     found.forEach(w -> selected.put(w.name(), w));
-    List<Pod> podsNow = pods.list(v.namespace()).toList();
+    List<Pod> podsNow = caches.pods(v.namespace());
     Map<String, WorkloadState> states = new LinkedHashMap<>();
     selected.forEach(
         (name, w) -> states.put(name, Observer.observe(w, podsNow, spec.rollout(), v.now())));
@@ -207,72 +140,12 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
     boolean anyInFlight = states.values().stream().anyMatch(s -> s.inFlight().isPresent());
     // The proposal being rolled out, or approved and not yet fully applied, stays published:
     // fresh measurements of the first changed workloads must not replace what was approved.
-    boolean keep = anyInFlight || approvedAndPending(spec, v.status().proposal, states);
-    v.propose(spec, states, kinds(selected), snapshot, keep, meters);
+    boolean keep = anyInFlight || StepTaker.approvedAndPending(spec, v.status().proposal, states);
+    ProposalPublisher.publish(v, spec, states, kinds(selected), snapshot, keep, meters);
 
-    List<RolloutStep> steps = List.of();
-    if (spec.applies()) {
-      HeapPoolStatus.Proposal p = v.status().proposal;
-      var gates =
-          new RolloutPlanner.Gates(
-              p != null
-                  && (spec.rollout().automaticApproval() || p.hash.equals(spec.approvedProposal())),
-              spec.rollout().frozenAt(v.now()),
-              metricsHeld,
-              spec.rollout().maxRollingWorkloads(),
-              spec.rollout().cooldownSeconds(),
-              spec.rollout().changeThresholdPercent(),
-              spec.objective() instanceof dev.heapherd.engine.Objective.Budget b
-                  ? OptionalLong.of(b.bytes())
-                  : OptionalLong.empty(),
-              v.now());
-      steps =
-          RolloutPlanner.decide(
-              new ArrayList<>(states.values()),
-              p == null ? Map.of() : ProposalBuilder.targets(p),
-              gates);
-      StepTaker taker = new StepTaker(writer, meters);
-      for (RolloutStep step : steps) {
-        taker.take(step, v, spec, selected.get(step.workload()), states.get(step.workload()));
-      }
-    }
+    List<RolloutStep> steps =
+        new StepTaker(writer, meters).takeAllowed(v, spec, selected, states, metricsHeld);
     return v.rolloutConditions(spec, states, steps);
-  }
-
-  /**
-   * Apply mode with manual approval, the published proposal is the approved one, and some workload
-   * it changes still waits for its change (opted-out and rolled-back ones never will).
-   */
-  private static boolean approvedAndPending(
-      PoolFile spec, HeapPoolStatus.Proposal published, Map<String, WorkloadState> states) {
-    if (!spec.applies()
-        || spec.rollout().automaticApproval()
-        || published == null
-        || !published.hash.equals(spec.approvedProposal())) {
-      return false;
-    }
-    return ProposalBuilder.targets(published).entrySet().stream()
-        .anyMatch(
-            e -> {
-              WorkloadState s = states.get(e.getKey());
-              return s != null
-                  && !s.optedOut()
-                  && !s.rolledBack()
-                  && RolloutPlanner.belowThreshold(
-                          s, e.getValue(), spec.rollout().changeThresholdPercent())
-                      .isEmpty();
-            });
-  }
-
-  /** The pool's workloads from the informer caches, sorted by name. */
-  private List<PoolWorkload> select(String namespace, PoolFile spec) {
-    return Stream.concat(deployments.list(namespace), statefulSets.list(namespace))
-        .filter(r -> r.getMetadata().getLabels() != null)
-        .filter(
-            r -> r.getMetadata().getLabels().entrySet().containsAll(spec.matchLabels().entrySet()))
-        .map(PoolWorkload::new)
-        .sorted(java.util.Comparator.comparing(PoolWorkload::name))
-        .toList();
   }
 
   private static Map<String, String> kinds(Map<String, PoolWorkload> selected) {

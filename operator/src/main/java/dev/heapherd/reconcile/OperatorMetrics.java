@@ -1,5 +1,7 @@
 package dev.heapherd.reconcile;
 
+import dev.heapherd.api.HeapPool;
+import dev.heapherd.api.HeapPoolStatus;
 import io.micrometer.core.instrument.Counter;
 import io.micrometer.core.instrument.Gauge;
 import io.micrometer.core.instrument.Meter;
@@ -8,11 +10,14 @@ import io.micrometer.core.instrument.Tag;
 import io.micrometer.core.instrument.Tags;
 import io.micrometer.core.instrument.Timer;
 import java.time.Duration;
+import java.util.HashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.Set;
 import java.util.concurrent.ConcurrentHashMap;
 import java.util.concurrent.atomic.AtomicReference;
+import java.util.stream.Collectors;
+import java.util.stream.Stream;
 
 /** heapherd's own meters: what it proposes, what it changes and how long it takes. */
 public final class OperatorMetrics {
@@ -107,6 +112,26 @@ public final class OperatorMetrics {
         .tags(NAMESPACE, namespace, POOL, pool)
         .register(registry)
         .record(took);
+  }
+
+  /**
+   * Drops the meters of pools that no longer exist ({@code existing}) and of workloads {@code
+   * pool}'s proposal no longer names. Pools carry no finalizer, so a deleted pool is noticed here,
+   * at the next visit of any.
+   */
+  void retainAfterVisit(Stream<HeapPool> existing, HeapPool pool, HeapPoolStatus status) {
+    Set<String> pools = existing.map(OperatorMetrics::key).collect(Collectors.toSet());
+    Map<String, Set<String>> workloads = new HashMap<>();
+    if (status.proposal != null) {
+      workloads.put(
+          key(pool),
+          status.proposal.workloads.stream().map(w -> w.name).collect(Collectors.toSet()));
+    }
+    retain(pools, workloads);
+  }
+
+  private static String key(HeapPool pool) {
+    return pool.getMetadata().getNamespace() + "/" + pool.getMetadata().getName();
   }
 
   /**

@@ -8,6 +8,7 @@ import dev.heapherd.rollout.PodTemplates;
 import java.util.ArrayList;
 import java.util.Collection;
 import java.util.List;
+import java.util.Optional;
 import java.util.Set;
 import java.util.stream.Collectors;
 
@@ -19,12 +20,41 @@ final class PoolChecks {
 
   private PoolChecks() {}
 
+  /** Why a pool stops: the Degraded reason and its message. */
+  record Problem(String reason, String message) {}
+
+  /**
+   * The first check {@code found}, the workloads {@code pool} selects, fails, in the order an admin
+   * would fix them: none selected, a container heapherd cannot resize, a workload in two pools.
+   */
+  static Optional<Problem> firstProblem(
+      HeapPool pool, PoolFile spec, List<PoolWorkload> found, List<HeapPool> poolsOfNamespace) {
+    if (found.isEmpty()) {
+      return Optional.of(
+          new Problem(
+              "NoWorkloads",
+              "no Deployment or StatefulSet in namespace "
+                  + pool.getMetadata().getNamespace()
+                  + " carries the labels "
+                  + spec.matchLabels()));
+    }
+    String containers = containers(found, spec.rollout());
+    if (!containers.isEmpty()) {
+      return Optional.of(new Problem("WorkloadNotChangeable", containers));
+    }
+    String shared = sharedWithOtherPools(pool, found, poolsOfNamespace);
+    if (!shared.isEmpty()) {
+      return Optional.of(new Problem("WorkloadInTwoPools", shared));
+    }
+    return Optional.empty();
+  }
+
   /**
    * Workloads another valid pool of the namespace also selects. Two pools resizing one workload
    * would undo each other's changes and count its memory twice, so both stop until an admin narrows
    * a selector.
    */
-  static String sharedWithOtherPools(
+  private static String sharedWithOtherPools(
       HeapPool pool, List<PoolWorkload> found, List<HeapPool> poolsOfNamespace) {
     List<String> shared = new ArrayList<>();
     for (HeapPool other : poolsOfNamespace) {
@@ -52,7 +82,7 @@ final class PoolChecks {
   }
 
   /** Why some workload cannot be resized as the spec says, or empty. */
-  static String containers(Collection<PoolWorkload> workloads, PoolFile.Rollout r) {
+  private static String containers(Collection<PoolWorkload> workloads, PoolFile.Rollout r) {
     List<String> problems = new ArrayList<>();
     for (PoolWorkload w : workloads) {
       var m = PodTemplates.read(w.template(), r.containerName(), r.jvmOptionsVariable());

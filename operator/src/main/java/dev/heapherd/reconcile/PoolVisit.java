@@ -2,11 +2,8 @@ package dev.heapherd.reconcile;
 
 import dev.heapherd.api.HeapPool;
 import dev.heapherd.api.HeapPoolStatus;
-import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
-import dev.heapherd.input.Quantity;
 import dev.heapherd.input.Snapshot;
-import dev.heapherd.proposal.ProposalBuilder;
 import dev.heapherd.rollout.PodTemplates;
 import dev.heapherd.rollout.RolloutStep;
 import dev.heapherd.rollout.WorkloadState;
@@ -15,7 +12,6 @@ import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.List;
-import java.util.Locale;
 import java.util.Map;
 import java.util.stream.Collectors;
 
@@ -55,6 +51,14 @@ final class PoolVisit {
 
   String namespace() {
     return pool.getMetadata().getNamespace();
+  }
+
+  String poolName() {
+    return pool.getMetadata().getName();
+  }
+
+  PoolEvents events() {
+    return events;
   }
 
   /** The pool cannot be worked on: say why, leave every other condition Unknown. */
@@ -102,115 +106,6 @@ final class PoolVisit {
           snapshot.workloads().size() + " of " + selected + " workloads measured");
     }
     return held;
-  }
-
-  /**
-   * Computes the proposal. With {@code keepPublished} (a rollout runs, or the approved proposal is
-   * still being applied) the published one stays, so it is finished as approved.
-   */
-  void propose(
-      PoolFile spec,
-      Map<String, WorkloadState> states,
-      Map<String, String> kinds,
-      Snapshot snapshot,
-      boolean keepPublished,
-      OperatorMetrics meters) {
-    Snapshot learned = CurveHistory.withHistory(snapshot, status);
-    for (CurveHistory.Check check : CurveHistory.record(status, snapshot, now)) {
-      checked(check, meters);
-    }
-    ProposalBuilder.Result fresh;
-    try {
-      fresh = ProposalBuilder.build(spec, states, kinds, learned, now);
-    } catch (InputException e) {
-      set(Conditions.PROPOSAL_READY, Conditions.FALSE, "CannotPlan", e.getMessage());
-      set(Conditions.BUDGET_FEASIBLE, Conditions.UNKNOWN, "CannotPlan", "no plan was computed");
-      if (!keepPublished) {
-        // A proposal nobody is applying would only mislead once its inputs are gone.
-        status.proposal = null;
-      }
-      return;
-    }
-    var plan = fresh.plan();
-    if (plan.feasible()) {
-      set(
-          Conditions.BUDGET_FEASIBLE,
-          Conditions.TRUE,
-          "WithinBudget",
-          "every heap fits above its floor");
-    } else {
-      set(
-          Conditions.BUDGET_FEASIBLE,
-          Conditions.FALSE,
-          "BudgetTooSmall",
-          "the heap floors alone need "
-              + Quantity.format(plan.minimumBudgetBytes())
-              + "; heaps are proposed at their floors");
-    }
-    HeapPoolStatus.Proposal previous = status.proposal;
-    HeapPoolStatus.Proposal chosen =
-        keepPublished && previous != null
-            ? previous
-            : ProposalBuilder.sticky(
-                previous, fresh.proposal(), spec.rollout().changeThresholdPercent());
-    status.proposal = chosen;
-    CurveHistory.expect(status);
-    set(Conditions.PROPOSAL_READY, Conditions.TRUE, "Computed", "proposal " + chosen.hash);
-    if (previous == null || !chosen.hash.equals(previous.hash)) {
-      events.record(
-          pool,
-          pool,
-          PoolEvents.NORMAL,
-          "ProposalComputed",
-          "proposal "
-              + chosen.hash
-              + ": pool GC "
-              + chosen.gcSecondsPerHourBefore
-              + " -> "
-              + chosen.gcSecondsPerHourAfter
-              + " s/h, memory "
-              + chosen.memoryUsed
-              + " of "
-              + chosen.memoryBudget);
-    }
-    for (var w : chosen.workloads) {
-      meters.heap(
-          namespace(),
-          pool.getMetadata().getName(),
-          w.name,
-          Quantity.parseBytes(w.currentHeap),
-          Quantity.parseBytes(w.proposedHeap));
-    }
-    meters.predictedGc(
-        namespace(),
-        pool.getMetadata().getName(),
-        Double.parseDouble(chosen.gcSecondsPerHourBefore),
-        Double.parseDouble(chosen.gcSecondsPerHourAfter));
-  }
-
-  /** Publishes one prediction checked against measurement: an event and two gauges. */
-  private void checked(CurveHistory.Check check, OperatorMetrics meters) {
-    events.record(
-        pool,
-        pool,
-        PoolEvents.NORMAL,
-        "GcPredictionChecked",
-        String.format(
-            Locale.ROOT,
-            "%s at heap %s: predicted %.1f GC s/h, measured %.1f (%+.0f%%)",
-            check.workload(),
-            Quantity.format(check.heapBytes()),
-            check.predicted(),
-            check.observed(),
-            check.predicted() > 0
-                ? 100 * (check.observed() - check.predicted()) / check.predicted()
-                : 0));
-    meters.checkedGc(
-        namespace(),
-        pool.getMetadata().getName(),
-        check.workload(),
-        check.predicted(),
-        check.observed());
   }
 
   /** Records an action taken on a workload: an event and a history line. */
@@ -339,7 +234,8 @@ final class PoolVisit {
         .orElse(false);
   }
 
-  private void set(String type, String value, String reason, String message) {
+  /** Sets condition {@code type} for this pool's generation. */
+  void set(String type, String value, String reason, String message) {
     Conditions.set(status.conditions, type, value, reason, message, generation, now);
   }
 }

@@ -1,15 +1,27 @@
 package dev.heapherd.reconcile;
 
+import dev.heapherd.api.HeapPoolStatus;
+import dev.heapherd.engine.Objective;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.observe.PoolWorkload;
+import dev.heapherd.proposal.ProposalBuilder;
+import dev.heapherd.rollout.ChangeThreshold;
 import dev.heapherd.rollout.JvmOptions;
 import dev.heapherd.rollout.PodTemplates;
+import dev.heapherd.rollout.RolloutPlanner;
 import dev.heapherd.rollout.RolloutRecord;
 import dev.heapherd.rollout.RolloutStep;
 import dev.heapherd.rollout.WorkloadState;
 import io.fabric8.kubernetes.api.model.HasMetadata;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.OptionalLong;
 
-/** Carries out the rollout planner's steps: writes the workload, records an Event, counts it. */
+/**
+ * Carries out the rollout planner's steps in Apply mode: writes the workload, records an Event,
+ * counts it.
+ */
 final class StepTaker {
 
   private final RolloutWriter writer;
@@ -20,8 +32,74 @@ final class StepTaker {
     this.meters = meters;
   }
 
+  /**
+   * Takes every step the rollout planner allows now towards the published proposal, in Apply mode
+   * only, and returns them (none in DryRun).
+   *
+   * @param metricsHeld why the pool's metrics cannot be trusted now, empty when they can
+   */
+  List<RolloutStep> takeAllowed(
+      PoolVisit v,
+      PoolFile spec,
+      Map<String, PoolWorkload> selected,
+      Map<String, WorkloadState> states,
+      String metricsHeld) {
+    if (!spec.applies()) {
+      return List.of();
+    }
+    HeapPoolStatus.Proposal p = v.status().proposal;
+    var gates =
+        new RolloutPlanner.Gates(
+            p != null
+                && (spec.rollout().automaticApproval() || p.hash.equals(spec.approvedProposal())),
+            spec.rollout().frozenAt(v.now()),
+            metricsHeld,
+            spec.rollout().maxRollingWorkloads(),
+            spec.rollout().cooldownSeconds(),
+            spec.rollout().changeThresholdPercent(),
+            spec.objective() instanceof Objective.Budget b
+                ? OptionalLong.of(b.bytes())
+                : OptionalLong.empty(),
+            v.now());
+    List<RolloutStep> steps =
+        RolloutPlanner.decide(
+            new ArrayList<>(states.values()),
+            p == null ? Map.of() : ProposalBuilder.targets(p),
+            gates);
+    for (RolloutStep step : steps) {
+      take(step, v, spec, selected.get(step.workload()), states.get(step.workload()));
+    }
+    return steps;
+  }
+
+  /**
+   * Apply mode with manual approval, the published proposal is the approved one, and some workload
+   * it changes still waits for its change (opted-out and rolled-back ones never will).
+   */
+  static boolean approvedAndPending(
+      PoolFile spec, HeapPoolStatus.Proposal published, Map<String, WorkloadState> states) {
+    if (!spec.applies()
+        || spec.rollout().automaticApproval()
+        || published == null
+        || !published.hash.equals(spec.approvedProposal())) {
+      return false;
+    }
+    return ProposalBuilder.targets(published).entrySet().stream()
+        .anyMatch(
+            e -> {
+              WorkloadState s = states.get(e.getKey());
+              return s != null
+                  && !s.optedOut()
+                  && !s.rolledBack()
+                  && ChangeThreshold.belowThreshold(
+                          s, e.getValue(), spec.rollout().changeThresholdPercent())
+                      .isEmpty();
+            });
+  }
+
   /** Takes {@code step} on workload {@code w}, whose state is {@code state}, and reports it. */
-  void take(RolloutStep step, PoolVisit v, PoolFile spec, PoolWorkload w, WorkloadState state) {
+  private void take(
+      RolloutStep step, PoolVisit v, PoolFile spec, PoolWorkload w, WorkloadState state) {
     String pool = v.pool().getMetadata().getName();
     if (step instanceof RolloutStep.Start s) {
       HasMetadata written = writer.start(w, s, spec.rollout(), v.status().proposal.hash, v.now());

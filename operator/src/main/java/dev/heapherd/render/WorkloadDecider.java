@@ -4,8 +4,8 @@ import dev.heapherd.engine.Objective;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Quantity;
 import dev.heapherd.proposal.ProposalBuilder;
+import dev.heapherd.rollout.ChangeThreshold;
 import dev.heapherd.rollout.PodTemplates;
-import dev.heapherd.rollout.RolloutPlanner;
 import dev.heapherd.rollout.RolloutPlanner.Target;
 import dev.heapherd.rollout.WorkloadState;
 import io.fabric8.kubernetes.api.model.PodTemplateSpec;
@@ -82,14 +82,14 @@ final class WorkloadDecider {
         kept.add(new Renderer.Kept(name, "held: " + held.get(name)));
         continue;
       }
-      if (RolloutPlanner.heapChangePercent(state, target) == 0
-          && RolloutPlanner.limitChangePercent(state, target) == 0
+      if (ChangeThreshold.heapChangePercent(state, target) == 0
+          && ChangeThreshold.limitChangePercent(state, target) == 0
           && rollout.changeThresholdPercent() > 0) {
         kept.add(new Renderer.Kept(name, "already has the proposed heap"));
         continue;
       }
       Optional<String> small =
-          RolloutPlanner.belowThreshold(state, target, rollout.changeThresholdPercent());
+          ChangeThreshold.belowThreshold(state, target, rollout.changeThresholdPercent());
       if (small.isPresent()) {
         kept.add(new Renderer.Kept(name, small.get()));
         continue;

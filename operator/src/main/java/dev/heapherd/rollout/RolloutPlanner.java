@@ -7,7 +7,6 @@ import java.time.Instant;
 import java.util.ArrayList;
 import java.util.Comparator;
 import java.util.List;
-import java.util.Locale;
 import java.util.Map;
 import java.util.Optional;
 import java.util.OptionalLong;
@@ -17,8 +16,6 @@ import java.util.OptionalLong;
  * back a change now. Pure: it returns steps and changes nothing.
  */
 public final class RolloutPlanner {
-
-  private static final double PERCENT = 100.0;
 
   private RolloutPlanner() {}
 
@@ -154,52 +151,6 @@ public final class RolloutPlanner {
     return (long) (w.replicas() + w.surgePods()) * peak;
   }
 
-  /**
-   * How far {@code t} moves the workload's heap, in percent of the heap now; infinite when the
-   * template sets no heap, so that a first -Xmx is never skipped as a small change.
-   */
-  public static double heapChangePercent(WorkloadState w, Target t) {
-    return w.heapBytes() == 0
-        ? Double.POSITIVE_INFINITY
-        : PERCENT * Math.abs(t.heapBytes() - w.heapBytes()) / w.heapBytes();
-  }
-
-  /**
-   * How far {@code t} moves the workload's chosen container limit, in percent of that limit now;
-   * infinite when it has none.
-   */
-  public static double limitChangePercent(WorkloadState w, Target t) {
-    long now = w.podLimitBytes() - w.otherContainersBytes();
-    return now <= 0 ? Double.POSITIVE_INFINITY : PERCENT * Math.abs(t.limitBytes() - now) / now;
-  }
-
-  /**
-   * Why {@code t} is too small a change to roll, empty when it is not: both the heap and the limit
-   * move by less than {@code thresholdPercent}. The limit counts on its own because the plan counts
-   * on the memory a limit-only change frees or takes; skipping it could leave the budget with no
-   * room for the rollouts that follow.
-   */
-  public static Optional<String> belowThreshold(WorkloadState w, Target t, long thresholdPercent) {
-    double heap = heapChangePercent(w, t);
-    double limit = limitChangePercent(w, t);
-    if (Math.max(heap, limit) >= thresholdPercent) {
-      return Optional.empty();
-    }
-    return Optional.of(
-        heap >= limit
-            ? String.format(
-                Locale.ROOT,
-                "a %.1f%% heap change is below the %d%% threshold",
-                heap,
-                thresholdPercent)
-            : String.format(
-                Locale.ROOT,
-                "a %.1f%% limit change (heap %.1f%%) is below the %d%% threshold",
-                limit,
-                heap,
-                thresholdPercent));
-  }
-
   /** The pod limit before heapherd's change; unknown or unset counts as the current one. */
   private static long previousLimitBytes(WorkloadState w, RolloutRecord r) {
     if (r.previousLimit() == null) {
@@ -230,7 +181,7 @@ public final class RolloutPlanner {
     if (gates.frozen()) {
       return hold(w, Rail.Frozen, "a freeze window is open");
     }
-    Optional<String> small = belowThreshold(w, t, gates.changeThresholdPercent());
+    Optional<String> small = ChangeThreshold.belowThreshold(w, t, gates.changeThresholdPercent());
     if (small.isPresent()) {
       return hold(w, Rail.BelowThreshold, small.get());
     }

@@ -57,6 +57,10 @@ class FleetE2E {
   private static final String NS = "tidewater-e2e";
   private static final String OTHER_NS = "tidewater-other";
   private static final String OOM_NS = "tidewater-oom";
+
+  /** The namespaces the operator is installed to watch: every one this test uses. */
+  private static final List<String> WATCHED = List.of(NS, OTHER_NS, OOM_NS);
+
   private static final String POOL = "dispatch";
 
   /** The pool's budget: today's limits plus room for one surge pod and some to share. */
@@ -110,13 +114,14 @@ class FleetE2E {
     agent = NodeAgent.start(cluster.kubeconfig(), work.resolve("agent"), client);
     Files.createDirectories(work.resolve("prometheus"));
     prometheus = PrometheusServer.scraping(work.resolve("prometheus"), agent.targets());
-    installChart();
-    for (String ns : List.of(NS, OTHER_NS, OOM_NS)) {
+    // The chart's namespaced Roles go into the watched namespaces, so those exist first.
+    for (String ns : WATCHED) {
       client
           .namespaces()
           .resource(new NamespaceBuilder().withNewMetadata().withName(ns).endMetadata().build())
           .create();
     }
+    installChart();
     for (Fleet.Service s : SERVICES) {
       client.resource(Fleet.deployment(NS, POOL, s, 1)).create();
     }
@@ -129,7 +134,7 @@ class FleetE2E {
             Fleet.deployment(
                 OOM_NS, "printing", new Fleet.Service("manifest-printer", 32, 0.5, 4, 128, 320), 0))
         .create();
-    for (String ns : List.of(NS, OTHER_NS, OOM_NS)) {
+    for (String ns : WATCHED) {
       await().atMost(Duration.ofMinutes(2)).until(() -> allRunning(ns));
     }
   }
@@ -349,7 +354,11 @@ class FleetE2E {
             Map.of(
                 "prometheus.url", prometheus.uri().toString(),
                 "metrics.bindAddress", "127.0.0.1",
-                "measureEverySeconds", "5"));
+                "measureEverySeconds", "5",
+                // The least-privileged install: namespaced Roles only, no cluster-wide grant.
+                "watchNamespaces[0]", WATCHED.get(0),
+                "watchNamespaces[1]", WATCHED.get(1),
+                "watchNamespaces[2]", WATCHED.get(2)));
     for (HasMetadata o : objects) {
       client.resource(o).create();
     }

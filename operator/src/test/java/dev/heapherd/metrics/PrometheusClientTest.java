@@ -103,7 +103,7 @@ class PrometheusClientTest {
     expect(
         serve(200, "<html>proxy</html>", Duration.ZERO),
         MetricsException.Kind.BAD_RESPONSE,
-        "not a Prometheus error (18 characters)");
+        "not a Prometheus error (18 bytes)");
     stop();
     expect(serve(200, "{}", STALL), MetricsException.Kind.TIMEOUT, "did not answer");
   }
@@ -246,9 +246,20 @@ class PrometheusClientTest {
               }
             },
             Duration.ofSeconds(20));
-    expect(client, MetricsException.Kind.BAD_RESPONSE, "more than 64 MiB");
+    expect(
+        client,
+        MetricsException.Kind.BAD_RESPONSE,
+        "more than " + (PrometheusClient.MAX_BODY_BYTES >> 20) + " MiB");
     flood.set(false);
     assertThat(client.query("up", Instant.now()).samples()).isEmpty();
+  }
+
+  @Test
+  void theBodyCapFollowsTheHeapSoTheOperatorsSmallHeapIsNotExhausted() {
+    // The chart's -Xmx192m (helm/heapherd/values.yaml) reads at most 6 MiB per answer.
+    assertThat(PrometheusClient.bodyCapBytes(192L << 20)).isEqualTo(6 << 20);
+    assertThat(PrometheusClient.bodyCapBytes(8L << 30)).isEqualTo(64 << 20);
+    assertThat(PrometheusClient.bodyCapBytes(16L << 20)).isEqualTo(1 << 20);
   }
 
   @Test

@@ -1,0 +1,54 @@
+package dev.heapherd.proposal;
+
+import dev.heapherd.api.HeapPoolStatus;
+import dev.heapherd.input.Quantity;
+import java.util.Map;
+import java.util.Set;
+import java.util.TreeMap;
+import java.util.stream.Collectors;
+
+/** Which proposal a pool publishes when a fresh one is computed. */
+public final class StickyProposal {
+
+  private static final double PERCENT = 100.0;
+
+  private StickyProposal() {}
+
+  /**
+   * The proposal to publish: the previous one while every workload's new heap is within {@code
+   * thresholdPercent} of it, so an approved hash survives the noise of fresh measurements.
+   */
+  public static HeapPoolStatus.Proposal choose(
+      HeapPoolStatus.Proposal previous, HeapPoolStatus.Proposal fresh, long thresholdPercent) {
+    if (previous == null || previous.hash == null) {
+      return fresh;
+    }
+    Map<String, Long> old = heaps(previous);
+    Map<String, Long> now = heaps(fresh);
+    if (!old.keySet().equals(now.keySet())) {
+      return fresh;
+    }
+    for (var e : now.entrySet()) {
+      long was = old.get(e.getKey());
+      if (was <= 0 || PERCENT * Math.abs(e.getValue() - was) / was >= thresholdPercent) {
+        return fresh;
+      }
+    }
+    if (!sameHeld(previous, fresh)) {
+      return fresh;
+    }
+    return previous;
+  }
+
+  private static Map<String, Long> heaps(HeapPoolStatus.Proposal p) {
+    Map<String, Long> out = new TreeMap<>();
+    p.workloads.forEach(w -> out.put(w.name, Quantity.parseBytes(w.proposedHeap)));
+    return out;
+  }
+
+  private static boolean sameHeld(HeapPoolStatus.Proposal a, HeapPoolStatus.Proposal b) {
+    Set<String> x = a.held.stream().map(h -> h.name).collect(Collectors.toSet());
+    Set<String> y = b.held.stream().map(h -> h.name).collect(Collectors.toSet());
+    return x.equals(y);
+  }
+}
