@@ -19,7 +19,13 @@ public enum Bound {
    * Shrunk no further in this step: no old-generation collection was measured, so at most {@link
    * HeapBounds#UNMEASURED_OLD_HEADROOM_GIVEN_UP} of today's old headroom is given up.
    */
-  OLD_UNMEASURED("old-unmeasured");
+  OLD_UNMEASURED("old-unmeasured"),
+  /**
+   * Under a collector with a fixed young generation (Serial, Parallel) the old generation's free
+   * space must hold a whole young generation's promotion, or the collector runs full collections in
+   * place of young ones.
+   */
+  PROMOTION_ROOM("promotion-room");
 
   private final String label;
 

@@ -33,6 +33,13 @@ public record Generations(
   /** Smallest share accepted as a measurement: below G1NewSizePercent (5) it is a scrape gap. */
   static final double MIN_MEASURED_SHARE = 0.05;
 
+  /**
+   * Slack on {@code youngShare + oldShare <= 1}: pool maxima are rounded to the collector's
+   * alignment, so a split heap's shares can sum a little above one. Our choice; G1's sum is at
+   * least 1.05 (old share 1 plus G1NewSizePercent).
+   */
+  static final double DISJOINT_TOLERANCE = 0.01;
+
   /** Validates the shares. */
   public Generations {
     if (!(youngShare > 0 && youngShare <= 1) || !(oldShare > 0 && oldShare <= 1)) {
@@ -64,6 +71,14 @@ public record Generations(
     double oldDefault = splitAtStart ? 1 - NEW_RATIO_DEFAULT_YOUNG_SHARE : 1;
     return new Generations(
         young.orElse(youngDefault), young.isPresent(), old.orElse(oldDefault), old.isPresent());
+  }
+
+  /**
+   * True when young and old objects live in separate fixed spaces (Serial, Parallel): a young
+   * collection can then promote only into the old generation's free space.
+   */
+  public boolean disjoint() {
+    return youngShare + oldShare <= 1 + DISJOINT_TOLERANCE;
   }
 
   private static Optional<Double> share(OptionalLong capacityBytes, long heapBytes) {
