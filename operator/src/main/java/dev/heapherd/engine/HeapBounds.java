@@ -4,7 +4,7 @@ package dev.heapherd.engine;
  * The interval one workload's heap may take in this step, in whole MiB, and what set each end.
  *
  * @param lowBytes lowest allowed heap
- * @param lowBound what set the low end (FLOOR or STEP)
+ * @param lowBound what set the low end (FLOOR, PROMOTION_ROOM, STEP or OLD_UNMEASURED)
  * @param highBytes highest allowed heap, never below {@code lowBytes}
  * @param highBound what set the high end (CEILING or STEP, or the low end's bound when floors win)
  */
@@ -81,13 +81,17 @@ public record HeapBounds(long lowBytes, Bound lowBound, long highBytes, Bound hi
 
   /**
    * The smallest heap whose old generation, holding the live set, still has free space for a whole
-   * young generation: {@code H >= (L + E0) / (oldShare - youngShare)}. Below it a young collection
-   * may not fit its survivors into the old generation, and Parallel, which estimates the promotion
-   * from its padded history, runs back-to-back full collections in place of young ones ("Pause Full
-   * (Ergonomics)"; the young generation guarantee of "Memory Management in the Java HotSpot Virtual
-   * Machine", Sun Microsystems white paper, 2006). Measured in the lab: a routing service with 94
-   * MiB live ran only full collections at 192 MiB and young ones at 201 MiB. Zero when the
-   * generations share one space (G1, ZGC, Shenandoah); today's heap when no heap can meet it.
+   * young generation: {@code H >= (L + E0) / (oldShare - youngShare)} (the young generation
+   * guarantee of "Memory Management in the Java HotSpot Virtual Machine", Sun Microsystems white
+   * paper, 2006). Parallel attempts a young collection only while its promotion estimate, the
+   * smaller of a padded average of past promotions and the young generation's occupancy, fits the
+   * old generation's free space (HotSpot's PSScavenge, from memory); else it runs a full collection
+   * instead, which does not update the average. A start-up load promotes nearly a young generation
+   * per collection, so below this heap the average can stay inflated and every collection be a full
+   * one. The lab measured that: a routing service with 94 MiB live ran only full collections at 192
+   * MiB, young ones at 201 MiB. At this heap the estimate always fits, young collections run and
+   * the average decays. Zero when the generations share one space (G1, ZGC, Shenandoah); today's
+   * heap when no heap can meet it.
    */
   static double promotionRoomFloorBytes(Workload w) {
     Generations g = w.gc().generations();

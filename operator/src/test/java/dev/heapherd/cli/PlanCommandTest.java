@@ -210,7 +210,9 @@ class PlanCommandTest {
       JsonNode gc = w.path("predictedGcSecondsPerHour");
       assertThat(gc.path("current").isNumber()).as(name + " GC now").isTrue();
       assertThat(gc.path("proposed").isNumber()).as(name + " GC proposed").isTrue();
-      assertThat(w.path("bound").asText()).as(name).isIn("none", "floor", "promotion-room", "ceiling", "step");
+      assertThat(w.path("bound").asText())
+          .as(name)
+          .isIn("none", "floor", "promotion-room", "ceiling", "step");
 
       long heap = w.path("heapBytes").asLong();
       long limit = w.path("limitBytes").asLong();
