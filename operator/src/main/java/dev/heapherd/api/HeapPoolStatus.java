@@ -113,7 +113,9 @@ public class HeapPoolStatus {
     public String gcSecondsPerHourBefore;
     public String gcSecondsPerHourAfter;
 
-    @JsonPropertyDescription("What decided the heap: Optimum, Floor, Ceiling, StepLimit, ...")
+    @JsonPropertyDescription(
+        "What decided the heap: none, floor, promotion-room, ceiling, step, kept-unpredictable or"
+            + " old-unmeasured")
     public String bound;
   }
 
