@@ -2,6 +2,7 @@ package dev.heapherd.proposal;
 
 import dev.heapherd.api.HeapPoolStatus;
 import dev.heapherd.input.Quantity;
+import dev.heapherd.rollout.ChangeThreshold;
 import java.util.Map;
 import java.util.Set;
 import java.util.TreeMap;
@@ -9,8 +10,6 @@ import java.util.stream.Collectors;
 
 /** Which proposal a pool publishes when a fresh one is computed. */
 public final class StickyProposal {
-
-  private static final double PERCENT = 100.0;
 
   private StickyProposal() {}
 
@@ -29,8 +28,7 @@ public final class StickyProposal {
       return fresh;
     }
     for (var e : now.entrySet()) {
-      long was = old.get(e.getKey());
-      if (was <= 0 || PERCENT * Math.abs(e.getValue() - was) / was >= thresholdPercent) {
+      if (ChangeThreshold.changePercent(old.get(e.getKey()), e.getValue()) >= thresholdPercent) {
         return fresh;
       }
     }

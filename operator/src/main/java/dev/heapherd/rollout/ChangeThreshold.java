@@ -16,9 +16,7 @@ public final class ChangeThreshold {
    * template sets no heap, so that a first -Xmx is never skipped as a small change.
    */
   public static double heapChangePercent(WorkloadState w, Target t) {
-    return w.heapBytes() == 0
-        ? Double.POSITIVE_INFINITY
-        : PERCENT * Math.abs(t.heapBytes() - w.heapBytes()) / w.heapBytes();
+    return changePercent(w.heapBytes(), t.heapBytes());
   }
 
   /**
@@ -26,8 +24,17 @@ public final class ChangeThreshold {
    * infinite when it has none.
    */
   public static double limitChangePercent(WorkloadState w, Target t) {
-    long now = w.podLimitBytes() - w.otherContainersBytes();
-    return now <= 0 ? Double.POSITIVE_INFINITY : PERCENT * Math.abs(t.limitBytes() - now) / now;
+    return changePercent(w.podLimitBytes() - w.otherContainersBytes(), t.limitBytes());
+  }
+
+  /**
+   * How far a size moves from {@code fromBytes} to {@code toBytes}, in percent of {@code
+   * fromBytes}; infinite when there was no size, so the change is never small.
+   */
+  public static double changePercent(long fromBytes, long toBytes) {
+    return fromBytes <= 0
+        ? Double.POSITIVE_INFINITY
+        : PERCENT * Math.abs(toBytes - fromBytes) / fromBytes;
   }
 
   /**
