@@ -118,6 +118,8 @@ public final class ControlPlane implements AutoCloseable {
           c ->
               c != null
                   && c.getStatus() != null
+                  // the API server can publish a status before its first condition
+                  && c.getStatus().getConditions() != null
                   && c.getStatus().getConditions().stream()
                       .anyMatch(
                           x -> x.getType().equals("Established") && x.getStatus().equals("True")),
