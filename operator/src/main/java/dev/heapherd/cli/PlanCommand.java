@@ -13,7 +13,7 @@ import dev.heapherd.input.SnapshotReader;
 import dev.heapherd.metrics.PrometheusEndpoint;
 import dev.heapherd.plan.PlanDocument;
 import dev.heapherd.plan.PlanTable;
-import dev.heapherd.plan.Planner;
+import dev.heapherd.proposal.ProposalBuilder;
 import java.nio.file.Path;
 import java.util.concurrent.Callable;
 import picocli.CommandLine;
@@ -64,7 +64,8 @@ final class PlanCommand implements Callable<Integer> {
           snapshot != null
               ? snapshot.toString()
               : PrometheusEndpoint.redacted(metrics.server.prometheus);
-      PoolPlan plan = Planner.plan(poolFile, pool.toString(), measured, source);
+      PoolPlan plan =
+          ProposalBuilder.fromMeasurements(poolFile, pool.toString(), measured, source).plan();
       doc = PlanDocument.of(poolFile, measured, plan);
     } catch (InputException e) {
       spec.commandLine().getErr().println("heapherd: " + ErrorText.oneLine(e.getMessage()));

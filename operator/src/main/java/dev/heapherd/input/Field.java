@@ -32,7 +32,6 @@ final class Field {
   private static final Pattern DECIMAL =
       Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?");
 
-  /** Kubernetes object names are DNS subdomains (RFC 1123), as the API server checks them. */
   private final String file;
 
   private final String path;

@@ -300,13 +300,15 @@ public final class PoolFileReader {
           throw q.required("signal").error("duplicate query for " + signal);
         }
         String promql = q.required("promql").text();
-        if (!promql.contains(SELECTOR_PLACEHOLDER)) {
-          // Without it the query reads every namespace Prometheus scrapes, not the pool's.
+        // A selector without it reads every namespace Prometheus scrapes, not the pool's.
+        var unscoped = PromqlSelectors.firstWithout(promql, SELECTOR_PLACEHOLDER);
+        if (unscoped.isPresent() || !promql.contains(SELECTOR_PLACEHOLDER)) {
           throw q.required("promql")
               .error(
                   "must contain "
                       + SELECTOR_PLACEHOLDER
-                      + " in each series selector, so that it reads only the pool's namespace");
+                      + " in each series selector, so that it reads only the pool's namespace"
+                      + unscoped.map(u -> "; " + ErrorText.quoted(u) + " has none").orElse(""));
         }
         queries.add(new PoolFile.Query(signal, promql));
       }

@@ -105,6 +105,25 @@ public record Snapshot(
           Math.max(0, gcSecondsPerSecond - youngGcSecondsPerSecond));
     }
 
+    /** This workload with {@code replicas} pods. */
+    public Workload withReplicas(int replicas) {
+      return new Workload(
+          name,
+          kind,
+          replicas,
+          collector,
+          heapMaxBytes,
+          liveBytes,
+          gcSecondsPerSecond,
+          youngGcSecondsPerSecond,
+          offsetBytes,
+          promotionBytesPerSecond,
+          collectorBytesPerSecond,
+          nonHeapBytes,
+          evidence,
+          layout);
+    }
+
     /** This workload with {@code layout}. */
     public Workload withLayout(Layout layout) {
       return new Workload(

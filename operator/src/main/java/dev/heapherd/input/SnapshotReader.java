@@ -29,29 +29,7 @@ public final class SnapshotReader {
   /** A collector tracing less than a byte per second is a unit mistake, not a measurement. */
   static final double MIN_COLLECTOR_BYTES_PER_SECOND = 1;
 
-  private static final Set<String> WORKLOAD_FIELDS =
-      Set.of(
-          "name",
-          "kind",
-          "replicas",
-          "collector",
-          "heapMaxBytes",
-          "liveBytes",
-          "gcSecondsPerSecond",
-          "youngGcSecondsPerSecond",
-          "offsetBytes",
-          "promotionBytesPerSecond",
-          "collectorBytesPerSecond",
-          "nonHeapBytes",
-          "youngCapacityBytes",
-          "oldCapacityBytes",
-          "startupLiveBytes",
-          "allocationBytesPerSecond",
-          "steadyGcSecondsPerSecond",
-          "history",
-          "sampleCount",
-          "confidence",
-          "notes");
+  private static final Set<String> WORKLOAD_FIELDS = SnapshotFile.fields(SnapshotFile.Entry.class);
 
   /** Confidence levels a snapshot may state. */
   public static final Set<String> CONFIDENCE = Set.of("High", "Medium", "Low");
@@ -60,9 +38,7 @@ public final class SnapshotReader {
 
   /** Reads {@code file}; every problem is reported as an {@link InputException}. */
   public static Snapshot read(Path file) throws InputException {
-    Field root =
-        Documents.read(file)
-            .allowOnly(Set.of("capturedAt", "windowSeconds", "source", "workloads", "held"));
+    Field root = Documents.read(file).allowOnly(SnapshotFile.fields(SnapshotFile.class));
     Field capturedField = root.required("capturedAt");
     Instant capturedAt;
     try {
@@ -83,7 +59,7 @@ public final class SnapshotReader {
     List<Snapshot.Held> held = new ArrayList<>();
     if (root.optional("held").isPresent()) {
       for (Field item : root.required("held").list()) {
-        item.allowOnly(Set.of("name", "reason", "memoryBytes"));
+        item.allowOnly(SnapshotFile.fields(SnapshotFile.Held.class));
         String name = item.required("name").objectName();
         if (!names.add(name)) {
           throw item.required("name").error("duplicate workload name \"" + name + "\"");
@@ -173,8 +149,7 @@ public final class SnapshotReader {
       return points;
     }
     for (Field item : f.required("history").list()) {
-      item.allowOnly(
-          Set.of("heapBytes", "liveBytes", "youngGcSecondsPerSecond", "oldGcSecondsPerSecond"));
+      item.allowOnly(SnapshotFile.fields(CurvePoint.class));
       long heap = item.required("heapBytes").positiveBytes();
       long live = item.required("liveBytes").positiveBytes();
       if (live >= heap) {

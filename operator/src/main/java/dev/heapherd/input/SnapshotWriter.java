@@ -1,10 +1,8 @@
 package dev.heapherd.input;
 
-import com.fasterxml.jackson.annotation.JsonInclude;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.dataformat.yaml.YAMLGenerator;
 import com.fasterxml.jackson.dataformat.yaml.YAMLMapper;
-import dev.heapherd.engine.CurvePoint;
 import java.util.List;
 import java.util.OptionalDouble;
 import java.util.OptionalLong;
@@ -18,54 +16,15 @@ public final class SnapshotWriter {
           .enable(YAMLGenerator.Feature.MINIMIZE_QUOTES)
           .build();
 
-  /** The file's shape; field order is the order written. */
-  @JsonInclude(JsonInclude.Include.NON_EMPTY)
-  record File(
-      String capturedAt,
-      long windowSeconds,
-      String source,
-      // Written even when empty (every workload held): the reader requires the key.
-      @JsonInclude(JsonInclude.Include.ALWAYS) List<Entry> workloads,
-      List<HeldEntry> held) {}
-
-  /** One held workload; an unknown memory figure is left out. */
-  @JsonInclude(JsonInclude.Include.NON_NULL)
-  record HeldEntry(String name, String reason, Long memoryBytes) {}
-
-  /** One workload; absent optional values are left out. */
-  @JsonInclude(JsonInclude.Include.NON_EMPTY)
-  record Entry(
-      String name,
-      String kind,
-      int replicas,
-      String collector,
-      long heapMaxBytes,
-      long liveBytes,
-      double gcSecondsPerSecond,
-      double youngGcSecondsPerSecond,
-      long offsetBytes,
-      Double promotionBytesPerSecond,
-      Double collectorBytesPerSecond,
-      long nonHeapBytes,
-      Long youngCapacityBytes,
-      Long oldCapacityBytes,
-      Long startupLiveBytes,
-      Double allocationBytesPerSecond,
-      Double steadyGcSecondsPerSecond,
-      List<CurvePoint> history,
-      Long sampleCount,
-      String confidence,
-      List<String> notes) {}
-
   private SnapshotWriter() {}
 
   /** The snapshot as YAML; {@code source} says where it was measured (may be empty). */
   public static String write(Snapshot snapshot, String source) {
-    List<Entry> entries =
+    List<SnapshotFile.Entry> entries =
         snapshot.workloads().stream()
             .map(
                 w ->
-                    new Entry(
+                    new SnapshotFile.Entry(
                         w.name(),
                         w.kind(),
                         w.replicas(),
@@ -92,7 +51,7 @@ public final class SnapshotWriter {
             .toList();
     try {
       return YAML.writeValueAsString(
-          new File(
+          new SnapshotFile(
               snapshot.capturedAt().toString(),
               snapshot.windowSeconds(),
               source,
@@ -100,7 +59,7 @@ public final class SnapshotWriter {
               snapshot.held().stream()
                   .map(
                       h ->
-                          new HeldEntry(
+                          new SnapshotFile.Held(
                               h.name(), h.reason(), h.memoryBytes() > 0 ? h.memoryBytes() : null))
                   .toList()));
     } catch (JsonProcessingException e) {

@@ -53,16 +53,16 @@ public final class FleetReader {
   }
 
   /**
-   * The value of {@code label} per pod ({@code namespace/pod}), from the series of Prometheus' own
-   * {@code up} metric: one query whatever the number of pods.
+   * The value of {@code label} per pod ({@code namespace/pod}) of {@code namespace}, from the
+   * series of Prometheus' own {@code up} metric: one query whatever the number of pods.
    */
-  public Map<String, String> podLabel(String selector, String label, long windowSeconds, Instant at)
-      throws MetricsException {
+  public Map<String, String> podLabel(
+      String namespace, String label, long windowSeconds, Instant at) throws MetricsException {
     String query =
         "max by (namespace, pod, "
             + label
             + ") (max_over_time(up{"
-            + selector
+            + selector(namespace)
             + "}["
             + windowSeconds
             + "s]))";
@@ -75,12 +75,19 @@ public final class FleetReader {
     return values;
   }
 
+  /** The label matchers of {@code namespace}'s series, which every query is scoped by. */
+  static String selector(String namespace) {
+    return "namespace=\"" + namespace + "\"";
+  }
+
   /**
-   * Reads the pods that match {@code selector} over the {@code windowSeconds} ending at {@code at}.
-   * Pods are those scraped in the window (the sample count query answers for them).
+   * Reads the pods of {@code namespace} over the {@code windowSeconds} ending at {@code at}. Pods
+   * are those scraped in the window (the sample count query answers for them), plus every pod of
+   * another namespace that any query answered for, so that the caller drops and reports it.
    */
-  public List<PodSignals> read(String selector, long windowSeconds, Instant at)
+  public List<PodSignals> read(String namespace, long windowSeconds, Instant at)
       throws MetricsException {
+    String selector = selector(namespace);
     Map<String, Map<Signal, Double>> values = new TreeMap<>();
     Map<String, String> namespaces = new HashMap<>();
     Set<String> liveFallback = new HashSet<>();
@@ -98,11 +105,11 @@ public final class FleetReader {
         for (Sample sample : result.samples()) {
           String key = sample.label("namespace") + "/" + sample.label("pod");
           namespaces.put(key, sample.label("namespace"));
+          Map<Signal, Double> pod = values.computeIfAbsent(key, k -> new EnumMap<>(Signal.class));
           if (signal == Signal.COLLECTOR_NAMES) {
             collectors.computeIfAbsent(key, k -> new HashSet<>()).add(sample.label("collector"));
             continue;
           }
-          Map<Signal, Double> pod = values.computeIfAbsent(key, k -> new EnumMap<>(Signal.class));
           if (pod.putIfAbsent(signal, sample.value()) == null
               && signal == Signal.LIVE_BYTES
               && i > 0) {
@@ -115,7 +122,8 @@ public final class FleetReader {
     List<PodSignals> pods = new ArrayList<>();
     for (var entry : values.entrySet()) {
       String key = entry.getKey();
-      if (!entry.getValue().containsKey(Signal.SAMPLE_COUNT)) {
+      boolean ours = namespace.equals(namespaces.get(key));
+      if (ours && !entry.getValue().containsKey(Signal.SAMPLE_COUNT)) {
         continue;
       }
       pods.add(

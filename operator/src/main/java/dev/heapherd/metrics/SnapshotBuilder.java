@@ -45,11 +45,10 @@ public final class SnapshotBuilder {
       String namespace, long windowSeconds, Instant at, Collection<String> expected) {
     List<PodSignals> pods;
     Map<String, String> labelled = Map.of();
-    String selector = "namespace=\"" + namespace + "\"";
     try {
-      pods = reader.read(selector, windowSeconds, at);
+      pods = reader.read(namespace, windowSeconds, at);
       if (!workloadLabel.isEmpty()) {
-        labelled = reader.podLabel(selector, workloadLabel, windowSeconds, at);
+        labelled = reader.podLabel(namespace, workloadLabel, windowSeconds, at);
       }
     } catch (MetricsException e) {
       List<Snapshot.Held> held =

@@ -1,7 +1,6 @@
 package dev.heapherd.proposal;
 
 import dev.heapherd.api.HeapPoolStatus;
-import dev.heapherd.engine.Objective;
 import dev.heapherd.engine.PoolPlan;
 import dev.heapherd.engine.WorkloadPlan;
 import dev.heapherd.input.InputException;
@@ -10,22 +9,19 @@ import dev.heapherd.input.Quantity;
 import dev.heapherd.input.Snapshot;
 import dev.heapherd.observe.ShortHash;
 import dev.heapherd.plan.Planner;
-import dev.heapherd.rollout.PodTemplates;
 import dev.heapherd.rollout.RolloutPlanner.Target;
 import dev.heapherd.rollout.WorkloadState;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
-import java.util.Locale;
 import java.util.Map;
+import java.util.Optional;
 import java.util.TreeMap;
 import java.util.stream.Collectors;
 
 /** Turns a pool's measurements and observed workloads into a proposal with a content hash. */
 public final class ProposalBuilder {
-
-  private static final double PERCENT = 100.0;
 
   private ProposalBuilder() {}
 
@@ -56,6 +52,47 @@ public final class ProposalBuilder {
       Instant now)
       throws InputException {
     return build(pool, "spec", states, kinds, snapshot, "metrics", now, true);
+  }
+
+  /**
+   * Plans a pool from its measurements alone, as {@code plan} does: with no manifests or cluster to
+   * observe, each workload is as the snapshot measured it (its pods' memory its heap and non-heap
+   * memory, a held one's what the snapshot says it holds), and nothing is reserved for surge pods.
+   */
+  public static Result fromMeasurements(
+      PoolFile pool, String poolSource, Snapshot snapshot, String snapshotSource)
+      throws InputException {
+    Map<String, WorkloadState> states = new LinkedHashMap<>();
+    Map<String, String> kinds = new LinkedHashMap<>();
+    for (Snapshot.Workload w : snapshot.workloads()) {
+      states.put(
+          w.name(),
+          measuredOnly(
+              w.name(), w.replicas(), w.heapMaxBytes() + w.nonHeapBytes(), w.heapMaxBytes()));
+      kinds.put(w.name(), w.kind());
+    }
+    for (Snapshot.Held h : snapshot.held()) {
+      states.put(h.name(), measuredOnly(h.name(), 1, h.memoryBytes(), 0));
+    }
+    return build(
+        pool, poolSource, states, kinds, snapshot, snapshotSource, snapshot.capturedAt(), false);
+  }
+
+  private static WorkloadState measuredOnly(
+      String name, int replicas, long podBytes, long heapBytes) {
+    return new WorkloadState(
+        name,
+        replicas,
+        0,
+        podBytes,
+        0,
+        heapBytes,
+        false,
+        Optional.empty(),
+        true,
+        Optional.empty(),
+        false,
+        Optional.empty());
   }
 
   /**
@@ -93,7 +130,7 @@ public final class ProposalBuilder {
       WorkloadState s = states.get(m.name());
       if (s != null && !heldReasons.containsKey(m.name())) {
         // The spec's replica count is what the budget must hold; scrapes can lag a scale change.
-        measured.add(withReplicas(m, s.replicas()));
+        measured.add(m.withReplicas(s.replicas()));
       }
     }
     states.keySet().stream()
@@ -125,46 +162,12 @@ public final class ProposalBuilder {
       plan = Planner.plan(pool, poolSource, input, snapshotSource, sidecarBytes + second);
     }
 
-    HeapPoolStatus.Proposal p = new HeapPoolStatus.Proposal();
     Map<String, Target> targets = new LinkedHashMap<>();
-    long heldBytes = input.heldMemoryBytes();
-    long usedNow = heldBytes;
     for (WorkloadPlan w : plan.workloads()) {
-      WorkloadState s = states.get(w.workload().name());
       targets.put(w.workload().name(), new Target(w.heapBytes(), w.limitBytes()));
-      usedNow += s.steadyBytes();
-      HeapPoolStatus.ProposedWorkload out = new HeapPoolStatus.ProposedWorkload();
-      out.name = w.workload().name();
-      out.kind = kinds.get(out.name);
-      out.replicas = w.workload().replicas();
-      out.currentHeap = PodTemplates.mebibytes(w.workload().currentHeapBytes());
-      out.proposedHeap = PodTemplates.mebibytes(w.heapBytes());
-      out.currentLimit = PodTemplates.mebibytes(s.podLimitBytes() - s.otherContainersBytes());
-      out.proposedLimit = PodTemplates.mebibytes(w.limitBytes());
-      out.gcSecondsPerHourBefore = seconds(w.gcSecondsPerHour().current());
-      out.gcSecondsPerHourAfter = seconds(w.gcSecondsPerHour().proposed());
-      out.bound = w.bound().label();
-      p.workloads.add(out);
     }
-    for (Snapshot.Held h : held) {
-      HeapPoolStatus.HeldWorkload out = new HeapPoolStatus.HeldWorkload();
-      out.name = h.name();
-      out.reason = h.reason();
-      p.held.add(out);
-    }
-    p.memoryBudget =
-        Quantity.format(
-            pool.objective() instanceof Objective.Budget b ? b.bytes() : plan.budgetBytes());
-    p.memoryUsed = Quantity.format(plan.usedBytes() + sidecarBytes + heldBytes);
-    p.memoryUsedNow = Quantity.format(usedNow);
-    double before = plan.totalGcSecondsPerHour().current();
-    double after = plan.totalGcSecondsPerHour().proposed();
-    p.gcSecondsPerHourBefore = seconds(before);
-    p.gcSecondsPerHourAfter = seconds(after);
-    p.gcChange =
-        before > 0
-            ? String.format(Locale.ROOT, "%+.0f%%", PERCENT * (after - before) / before)
-            : "";
+    HeapPoolStatus.Proposal p =
+        ProposalStatus.of(pool, plan, states, kinds, held, sidecarBytes, input.heldMemoryBytes());
     p.hash = hash(targets);
     p.computedAt = now.toString();
     return new Result(p, targets, plan);
@@ -218,27 +221,5 @@ public final class ProposalBuilder {
                             + e.getValue().limitBytes())
                 .collect(Collectors.joining("\n"));
     return ShortHash.of(canonical);
-  }
-
-  private static String seconds(double value) {
-    return String.format(Locale.ROOT, "%.1f", value);
-  }
-
-  private static Snapshot.Workload withReplicas(Snapshot.Workload m, int replicas) {
-    return new Snapshot.Workload(
-        m.name(),
-        m.kind(),
-        replicas,
-        m.collector(),
-        m.heapMaxBytes(),
-        m.liveBytes(),
-        m.gcSecondsPerSecond(),
-        m.youngGcSecondsPerSecond(),
-        m.offsetBytes(),
-        m.promotionBytesPerSecond(),
-        m.collectorBytesPerSecond(),
-        m.nonHeapBytes(),
-        m.evidence(),
-        m.layout());
   }
 }

@@ -1,8 +1,10 @@
 package dev.heapherd.proposal;
 
 import dev.heapherd.api.HeapPoolStatus;
+import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Quantity;
 import dev.heapherd.rollout.ChangeThreshold;
+import dev.heapherd.rollout.WorkloadState;
 import java.util.Map;
 import java.util.Set;
 import java.util.TreeMap;
@@ -36,6 +38,32 @@ public final class StickyProposal {
       return fresh;
     }
     return previous;
+  }
+
+  /**
+   * Apply mode with manual approval, the published proposal is the approved one, and some workload
+   * it changes still waits for its change (opted-out and rolled-back ones never will): the pool
+   * keeps publishing it until the rollout is done, whatever fresh measurements say.
+   */
+  public static boolean approvedAndPending(
+      PoolFile spec, HeapPoolStatus.Proposal published, Map<String, WorkloadState> states) {
+    if (!spec.applies()
+        || spec.rollout().automaticApproval()
+        || published == null
+        || !published.hash.equals(spec.approvedProposal())) {
+      return false;
+    }
+    return ProposalBuilder.targets(published).entrySet().stream()
+        .anyMatch(
+            e -> {
+              WorkloadState s = states.get(e.getKey());
+              return s != null
+                  && !s.optedOut()
+                  && !s.rolledBack()
+                  && ChangeThreshold.belowThreshold(
+                          s, e.getValue(), spec.rollout().changeThresholdPercent())
+                      .isEmpty();
+            });
   }
 
   private static Map<String, Long> heaps(HeapPoolStatus.Proposal p) {

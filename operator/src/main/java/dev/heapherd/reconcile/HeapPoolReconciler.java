@@ -8,6 +8,7 @@ import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Snapshot;
 import dev.heapherd.observe.Observer;
 import dev.heapherd.observe.PoolWorkload;
+import dev.heapherd.proposal.StickyProposal;
 import dev.heapherd.rollout.RolloutStep;
 import dev.heapherd.rollout.WorkloadState;
 import io.fabric8.kubernetes.api.model.Pod;
@@ -140,7 +141,8 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
     boolean anyInFlight = states.values().stream().anyMatch(s -> s.inFlight().isPresent());
     // The proposal being rolled out, or approved and not yet fully applied, stays published:
     // fresh measurements of the first changed workloads must not replace what was approved.
-    boolean keep = anyInFlight || StepTaker.approvedAndPending(spec, v.status().proposal, states);
+    boolean keep =
+        anyInFlight || StickyProposal.approvedAndPending(spec, v.status().proposal, states);
     ProposalPublisher.publish(v, spec, states, kinds(selected), snapshot, keep, meters);
 
     List<RolloutStep> steps =

@@ -3,6 +3,7 @@ package dev.heapherd.reconcile;
 import io.fabric8.kubernetes.client.KubernetesClient;
 import io.javaoperatorsdk.operator.Operator;
 import io.javaoperatorsdk.operator.api.config.LeaderElectionConfiguration;
+import io.javaoperatorsdk.operator.monitoring.micrometer.MicrometerMetrics;
 import io.micrometer.core.instrument.MeterRegistry;
 import java.time.Clock;
 import java.time.Duration;
@@ -61,7 +62,11 @@ public final class OperatorRuntime implements AutoCloseable {
                   .withCloseClientOnStop(true)
                   // Reconciles are idempotent, so a stop need not wait long for one to finish;
                   // this keeps shutdown inside a pod's termination grace.
-                  .withReconciliationTerminationTimeout(RECONCILE_STOP_WAIT);
+                  .withReconciliationTerminationTimeout(RECONCILE_STOP_WAIT)
+                  // The SDK's own meters (reconciles, events, failures) beside ours. Per
+                  // resource meters would outlive a deleted pool: the SDK drops them only on
+                  // cleanup, which pools without a finalizer never get.
+                  .withMetrics(MicrometerMetrics.withoutPerResourceMetrics(registry));
               settings
                   .leaseNamespace()
                   .ifPresent(

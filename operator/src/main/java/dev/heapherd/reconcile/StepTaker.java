@@ -5,7 +5,6 @@ import dev.heapherd.engine.Objective;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.observe.PoolWorkload;
 import dev.heapherd.proposal.ProposalBuilder;
-import dev.heapherd.rollout.ChangeThreshold;
 import dev.heapherd.rollout.JvmOptions;
 import dev.heapherd.rollout.PodTemplates;
 import dev.heapherd.rollout.RolloutPlanner;
@@ -70,31 +69,6 @@ final class StepTaker {
       take(step, v, spec, selected.get(step.workload()), states.get(step.workload()));
     }
     return steps;
-  }
-
-  /**
-   * Apply mode with manual approval, the published proposal is the approved one, and some workload
-   * it changes still waits for its change (opted-out and rolled-back ones never will).
-   */
-  static boolean approvedAndPending(
-      PoolFile spec, HeapPoolStatus.Proposal published, Map<String, WorkloadState> states) {
-    if (!spec.applies()
-        || spec.rollout().automaticApproval()
-        || published == null
-        || !published.hash.equals(spec.approvedProposal())) {
-      return false;
-    }
-    return ProposalBuilder.targets(published).entrySet().stream()
-        .anyMatch(
-            e -> {
-              WorkloadState s = states.get(e.getKey());
-              return s != null
-                  && !s.optedOut()
-                  && !s.rolledBack()
-                  && ChangeThreshold.belowThreshold(
-                          s, e.getValue(), spec.rollout().changeThresholdPercent())
-                      .isEmpty();
-            });
   }
 
   /** Takes {@code step} on workload {@code w}, whose state is {@code state}, and reports it. */

@@ -23,12 +23,27 @@ public final class FolderWriter {
 
   private static final String TEMPORARY_PREFIX = ".heapherd-";
 
+  /** The last step of a write: a temporary renamed over its target. */
+  @FunctionalInterface
+  interface Rename {
+    void apply(Path temporary, Path target) throws IOException;
+  }
+
   private final Path root;
+  private final Rename rename;
   private final Map<Path, byte[]> pending = new LinkedHashMap<>();
 
   /** A writer for files under {@code root}, which need not exist yet. */
   public FolderWriter(Path root) {
+    this(root, FolderWriter::move);
+  }
+
+  /**
+   * A writer renaming with {@code rename}: tests make a rename fail as no file system lets them.
+   */
+  FolderWriter(Path root, Rename rename) {
     this.root = root.toAbsolutePath().normalize();
+    this.rename = rename;
   }
 
   /** Adds {@code relative} with {@code content}; a file already equal to it is left alone. */
@@ -71,7 +86,7 @@ public final class FolderWriter {
     List<Path> renamed = new ArrayList<>();
     for (var entry : temporaries.entrySet()) {
       try {
-        move(entry.getValue(), entry.getKey());
+        rename.apply(entry.getValue(), entry.getKey());
         renamed.add(entry.getKey());
       } catch (IOException e) {
         deleteAll(temporaries.values());

@@ -187,6 +187,15 @@ class PoolFileReaderTest {
                 + "        promql: 'max by (namespace, pod) (jvm_memory_used_bytes)'\n  defaults:",
             "spec.metrics.queries[0].promql",
             "must contain ${selector} in each series selector"),
+        // One selector scoped, the one joined to it not: the join reads every namespace.
+        arguments(
+            "a query whose second selector lacks the pool's selector",
+            "  defaults:",
+            "  metrics:\n    queries:\n      - signal: liveBytes\n"
+                + "        promql: 'max by (namespace, pod) (jvm_memory_used_bytes{${selector}})"
+                + " * on (pod) group_left kube_pod_info'\n  defaults:",
+            "spec.metrics.queries[0].promql",
+            "\"kube_pod_info\" has none"),
         // Rollout settings.
         arguments(
             "an environment variable name with a space",

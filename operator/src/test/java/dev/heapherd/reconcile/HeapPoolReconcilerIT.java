@@ -115,6 +115,11 @@ class HeapPoolReconcilerIT {
     assertThat(condition(pool, "RolloutInProgress").getReason()).isEqualTo("DryRun");
     assertThat(versions()).isEqualTo(before);
     assertThat(events()).extracting(Event::getReason).contains("ProposalComputed");
+    // The operator SDK's meters are in the same registry as heapherd's own.
+    assertThat(operator.registry.getMeters())
+        .extracting(m -> m.getId().getName())
+        .anyMatch(n -> n.startsWith("operator.sdk."))
+        .anyMatch(n -> n.startsWith("heapherd."));
   }
 
   @Test
