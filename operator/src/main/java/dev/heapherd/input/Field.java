@@ -52,6 +52,16 @@ final class Field {
     return path;
   }
 
+  /** The file or source errors name. */
+  String file() {
+    return file;
+  }
+
+  /** The parsed value at this field. */
+  JsonNode node() {
+    return node;
+  }
+
   /** An error about this field. */
   InputException error(String problem) {
     return new InputException(file, path, problem);

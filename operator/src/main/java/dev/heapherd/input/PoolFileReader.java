@@ -142,7 +142,17 @@ public final class PoolFileReader {
     return read(Field.root(source, tree));
   }
 
+  /**
+   * The reader's checks, which name the usual mistakes in their own words, then the generated CRD's
+   * schema, so that a file is refused for whatever the API server would refuse in a resource.
+   */
   private static PoolFile read(Field document) throws InputException {
+    PoolFile pool = readFields(document);
+    PoolSchema.check(document.file(), document.node());
+    return pool;
+  }
+
+  private static PoolFile readFields(Field document) throws InputException {
     Field root = document.allowOnly(Set.of("apiVersion", "kind", "metadata", "spec", "status"));
     String apiVersion = root.required("apiVersion").text();
     if (!API_VERSION.equals(apiVersion)) {
