@@ -107,25 +107,15 @@ public record Snapshot(
 
     /** This workload with {@code replicas} pods. */
     public Workload withReplicas(int replicas) {
-      return new Workload(
-          name,
-          kind,
-          replicas,
-          collector,
-          heapMaxBytes,
-          liveBytes,
-          gcSecondsPerSecond,
-          youngGcSecondsPerSecond,
-          offsetBytes,
-          promotionBytesPerSecond,
-          collectorBytesPerSecond,
-          nonHeapBytes,
-          evidence,
-          layout);
+      return with(replicas, layout);
     }
 
     /** This workload with {@code layout}. */
     public Workload withLayout(Layout layout) {
+      return with(replicas, layout);
+    }
+
+    private Workload with(int replicas, Layout layout) {
       return new Workload(
           name,
           kind,

@@ -3,15 +3,9 @@ package dev.heapherd.reconcile;
 import dev.heapherd.api.HeapPool;
 import dev.heapherd.api.HeapPoolStatus;
 import dev.heapherd.input.ErrorText;
-import dev.heapherd.input.InputException;
-import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Snapshot;
-import dev.heapherd.observe.Observer;
-import dev.heapherd.observe.PoolWorkload;
 import dev.heapherd.proposal.StickyProposal;
 import dev.heapherd.rollout.RolloutStep;
-import dev.heapherd.rollout.WorkloadState;
-import io.fabric8.kubernetes.api.model.Pod;
 import io.fabric8.kubernetes.client.KubernetesClientException;
 import io.fabric8.kubernetes.client.utils.KubernetesSerialization;
 import io.javaoperatorsdk.operator.api.reconciler.Context;
@@ -24,9 +18,7 @@ import io.javaoperatorsdk.operator.processing.event.source.EventSource;
 import java.time.Clock;
 import java.time.Duration;
 import java.time.Instant;
-import java.util.LinkedHashMap;
 import java.util.List;
-import java.util.Map;
 import java.util.concurrent.TimeUnit;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
@@ -116,43 +108,23 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
 
   /** One visit: returns whether a rollout is running, so the pool is looked at again soon. */
   private boolean visit(PoolVisit v, RolloutWriter writer, List<HeapPool> poolsOfNamespace) {
-    PoolFile spec;
-    try {
-      spec = PoolSpecs.read(v.pool());
-    } catch (InputException e) {
-      v.degraded("InvalidSpec", e.getMessage());
+    var seen = PoolObservation.of(v, caches, poolsOfNamespace);
+    if (seen.isEmpty()) {
       return false;
     }
-    List<PoolWorkload> found = caches.select(v.namespace(), spec);
-    var problem = PoolChecks.firstProblem(v.pool(), spec, found, poolsOfNamespace);
-    if (problem.isPresent()) {
-      v.degraded(problem.get().reason(), problem.get().message());
-      return false;
-    }
-    Map<String, PoolWorkload> selected = new LinkedHashMap<>();
-    found.forEach(w -> selected.put(w.name(), w));
-    List<Pod> podsNow = caches.pods(v.namespace());
-    Map<String, WorkloadState> states = new LinkedHashMap<>();
-    selected.forEach(
-        (name, w) -> states.put(name, Observer.observe(w, podsNow, spec.rollout(), v.now())));
-
-    Snapshot snapshot = metrics.measure(spec, v.namespace(), selected.keySet(), v.now());
-    String metricsHeld = v.metricsCondition(spec, snapshot, selected.size());
-    boolean anyInFlight = states.values().stream().anyMatch(s -> s.inFlight().isPresent());
+    PoolObservation o = seen.get();
+    Snapshot snapshot = metrics.measure(o.spec(), v.namespace(), o.selected().keySet(), v.now());
+    String metricsHeld = v.metricsCondition(o.spec(), snapshot, o.selected().size());
     // The proposal being rolled out, or approved and not yet fully applied, stays published:
     // fresh measurements of the first changed workloads must not replace what was approved.
     boolean keep =
-        anyInFlight || StickyProposal.approvedAndPending(spec, v.status().proposal, states);
-    ProposalPublisher.publish(v, spec, states, kinds(selected), snapshot, keep, meters);
+        o.anyInFlight()
+            || StickyProposal.approvedAndPending(o.spec(), v.status().proposal, o.states());
+    ProposalPublisher.publish(v, o.spec(), o.states(), o.kinds(), snapshot, keep, meters);
 
     List<RolloutStep> steps =
-        new StepTaker(writer, meters).takeAllowed(v, spec, selected, states, metricsHeld);
-    return v.rolloutConditions(spec, states, steps);
-  }
-
-  private static Map<String, String> kinds(Map<String, PoolWorkload> selected) {
-    Map<String, String> out = new LinkedHashMap<>();
-    selected.forEach((n, w) -> out.put(n, w.kind()));
-    return out;
+        new StepTaker(writer, meters)
+            .takeAllowed(v, o.spec(), o.selected(), o.states(), metricsHeld);
+    return v.rolloutConditions(o.spec(), o.states(), steps);
   }
 }

@@ -37,7 +37,7 @@ class RenderPermissionsTest {
     Path manifests = ExampleManifests.copyInto(dir);
     // Which files the example's render changes, found by rendering to another folder first.
     Path scratch = dir.resolve("scratch");
-    PlanRun first = render(manifests, "--output", scratch.toString());
+    PlanRun first = PlanRun.run(renderArgs(manifests, "--output", scratch.toString()));
     assertThat(first.exitCode()).as("stderr: %s", first.err()).isEqualTo(Main.EXIT_CHANGES);
     List<String> changed = List.copyOf(ExampleManifests.contents(scratch).keySet());
     assertThat(changed).hasSizeGreaterThan(1);
@@ -45,15 +45,7 @@ class RenderPermissionsTest {
     Files.setPosixFilePermissions(last, PosixFilePermissions.fromString("r--r--r--"));
     Map<String, String> before = ExampleManifests.contents(manifests);
 
-    Result run =
-        unprivileged(
-            "render",
-            "--pool",
-            POOL.toString(),
-            "--snapshot",
-            SNAPSHOT.toString(),
-            "--manifests",
-            manifests.toString());
+    Result run = unprivileged(renderArgs(manifests));
 
     assertThat(run.exitCode()).as("stderr: %s", run.err()).isEqualTo(Main.EXIT_BAD_INPUT);
     assertThat(run.err().strip().lines()).hasSize(1);
@@ -70,24 +62,15 @@ class RenderPermissionsTest {
     Path out = Files.createDirectories(dir.resolve("rendered"));
     Files.setPosixFilePermissions(out, PosixFilePermissions.fromString("r-xr-xr-x"));
 
-    Result run =
-        unprivileged(
-            "render",
-            "--pool",
-            POOL.toString(),
-            "--snapshot",
-            SNAPSHOT.toString(),
-            "--manifests",
-            manifests.toString(),
-            "--output",
-            out.toString());
+    Result run = unprivileged(renderArgs(manifests, "--output", out.toString()));
 
     assertThat(run.exitCode()).as("stderr: %s", run.err()).isEqualTo(Main.EXIT_BAD_INPUT);
     assertThat(run.err()).contains("permission denied; nothing was changed");
     assertThat(ExampleManifests.contents(out)).isEmpty();
   }
 
-  private static PlanRun render(Path manifests, String... options) {
+  /** {@code render} of the bundled example's pool and snapshot over {@code manifests}. */
+  private static String[] renderArgs(Path manifests, String... options) {
     List<String> args =
         new ArrayList<>(
             List.of(
@@ -99,7 +82,7 @@ class RenderPermissionsTest {
                 "--manifests",
                 manifests.toString()));
     args.addAll(List.of(options));
-    return PlanRun.run(args.toArray(String[]::new));
+    return args.toArray(String[]::new);
   }
 
   /** What a run of the command line as a separate process printed, and how it exited. */
