@@ -2,6 +2,7 @@ package dev.heapherd.api;
 
 import com.fasterxml.jackson.annotation.JsonInclude;
 import com.fasterxml.jackson.annotation.JsonPropertyDescription;
+import dev.heapherd.input.Patterns;
 import dev.heapherd.input.PoolFile;
 import io.fabric8.crd.generator.annotation.SchemaFrom;
 import io.fabric8.generator.annotation.Default;

@@ -2,6 +2,8 @@ package dev.heapherd.api;
 
 import com.fasterxml.jackson.annotation.JsonInclude;
 import com.fasterxml.jackson.annotation.JsonPropertyDescription;
+import dev.heapherd.input.Patterns;
+import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.PoolFileReader;
 import io.fabric8.crd.generator.annotation.SchemaFrom;
 import io.fabric8.generator.annotation.Max;
@@ -15,7 +17,7 @@ import java.util.List;
 public class MetricsSpec {
 
   @JsonPropertyDescription("How the JVMs export metrics: micrometer, client-java or otel.")
-  @SchemaFrom(type = Profile.class)
+  @SchemaFrom(type = PoolFile.Profile.class)
   public String profile;
 
   @JsonPropertyDescription("Window in seconds that rates and sizes are computed over.")
@@ -29,14 +31,6 @@ public class MetricsSpec {
   @JsonPropertyDescription("Label whose value names a pod's workload; unset: from the pod name.")
   @Pattern(Patterns.PROMETHEUS_LABEL)
   public String workloadLabel;
-
-  /** The query profiles; values are the names the pool file uses. */
-  public enum Profile {
-    micrometer,
-    @com.fasterxml.jackson.annotation.JsonProperty("client-java")
-    clientJava,
-    otel
-  }
 
   /** One replaced query template. */
   @JsonInclude(JsonInclude.Include.NON_NULL)

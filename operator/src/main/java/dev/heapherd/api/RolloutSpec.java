@@ -2,6 +2,8 @@ package dev.heapherd.api;
 
 import com.fasterxml.jackson.annotation.JsonInclude;
 import com.fasterxml.jackson.annotation.JsonPropertyDescription;
+import dev.heapherd.input.Patterns;
+import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.PoolFileReader;
 import io.fabric8.crd.generator.annotation.SchemaFrom;
 import io.fabric8.generator.annotation.Max;
@@ -31,7 +33,7 @@ public class RolloutSpec {
   public Boolean setInitialHeap;
 
   @JsonPropertyDescription("Manual: apply only the approved proposal hash. Automatic: apply any.")
-  @SchemaFrom(type = Approval.class)
+  @SchemaFrom(type = PoolFile.Approval.class)
   public String approval;
 
   @JsonPropertyDescription("Workloads of the pool that may roll at the same time.")
@@ -59,12 +61,6 @@ public class RolloutSpec {
   @JsonPropertyDescription("Times in which no new change starts; rollbacks still happen.")
   @Size(max = Patterns.MAX_FREEZE_WINDOWS)
   public List<FreezeWindow> freezeWindows;
-
-  /** Who approves a proposal before it is applied. */
-  public enum Approval {
-    Manual,
-    Automatic
-  }
 
   /** A period in which no rollout starts. */
   @JsonInclude(JsonInclude.Include.NON_NULL)

@@ -1,8 +1,13 @@
 package dev.heapherd.input;
 
+import com.fasterxml.jackson.annotation.JsonProperty;
+import com.fasterxml.jackson.databind.ObjectMapper;
 import dev.heapherd.engine.Objective;
+import java.util.Arrays;
 import java.util.List;
 import java.util.Map;
+import java.util.Set;
+import java.util.stream.Collectors;
 
 /**
  * A HeapPool document as read from a file.
@@ -36,6 +41,30 @@ public record PoolFile(
     DryRun,
     /** Roll proposals out. */
     Apply
+  }
+
+  /** The query profiles; values are the names the pool file uses. */
+  public enum Profile {
+    micrometer,
+    @JsonProperty("client-java")
+    clientJava,
+    otel
+  }
+
+  /** Who approves a proposal before it is applied. */
+  public enum Approval {
+    Manual,
+    Automatic
+  }
+
+  /** Writes enum values by the names the pool file uses. */
+  private static final ObjectMapper NAMES = new ObjectMapper();
+
+  /** The names a pool file gives the values of {@code type}, as Jackson writes them. */
+  static <E extends Enum<E>> Set<String> names(Class<E> type) {
+    return Arrays.stream(type.getEnumConstants())
+        .map(e -> NAMES.convertValue(e, String.class))
+        .collect(Collectors.toUnmodifiableSet());
   }
 
   /** True when the pool may change its workloads. */

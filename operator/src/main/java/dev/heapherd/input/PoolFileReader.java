@@ -26,7 +26,7 @@ public final class PoolFileReader {
   public static final String KIND = "HeapPool";
 
   /** Query profiles a pool may name; they match the metrics package's built-in profiles. */
-  public static final Set<String> PROFILES = Set.of("micrometer", "client-java", "otel");
+  public static final Set<String> PROFILES = PoolFile.names(PoolFile.Profile.class);
 
   /** Signals whose query a pool may replace; they match the metrics package's signal keys. */
   public static final Set<String> SIGNALS =
@@ -64,13 +64,13 @@ public final class PoolFileReader {
       new PoolFile.Rollout("", "JAVA_TOOL_OPTIONS", true, false, false, 1, 3600, 5, 600, List.of());
 
   /** Environment variable names a POSIX shell accepts. */
-  private static final Pattern ENV_NAME = Pattern.compile("[A-Za-z_][A-Za-z0-9_]*");
+  private static final Pattern ENV_NAME = Pattern.compile(Patterns.ENV_NAME);
 
   /** Container names: DNS-1123 labels, as Kubernetes requires. */
-  private static final Pattern CONTAINER_NAME = Pattern.compile("[a-z0-9]([-a-z0-9]*[a-z0-9])?");
+  private static final Pattern CONTAINER_NAME = Pattern.compile(Patterns.DNS_LABEL);
 
   /** Proposal hashes as the operator writes them. */
-  private static final Pattern HASH = Pattern.compile("[0-9a-f]{12,64}");
+  private static final Pattern HASH = Pattern.compile(Patterns.HASH);
 
   /** Longest cooldown or metrics age accepted: one week. */
   public static final long MAX_SECONDS = 7L * 24 * 3600;
@@ -82,7 +82,7 @@ public final class PoolFileReader {
   public static final long MIN_METRICS_AGE_SECONDS = 30;
 
   /** Prometheus label names, per its data model documentation. */
-  private static final Pattern PROMETHEUS_LABEL = Pattern.compile("[a-zA-Z_][a-zA-Z0-9_]*");
+  private static final Pattern PROMETHEUS_LABEL = Pattern.compile(Patterns.PROMETHEUS_LABEL);
 
   /** Shortest window: tests use tens of seconds at one-second scrapes. */
   public static final long MIN_WINDOW_SECONDS = 10;
@@ -288,7 +288,12 @@ public final class PoolFileReader {
         variable,
         f.booleanOr("setMemoryRequest", d.setMemoryRequest()),
         f.booleanOr("setInitialHeap", d.setInitialHeap()),
-        "Automatic".equals(f.oneOfOrDefault("approval", Set.of("Manual", "Automatic"), "Manual")),
+        PoolFile.Approval.Automatic.name()
+            .equals(
+                f.oneOfOrDefault(
+                    "approval",
+                    PoolFile.names(PoolFile.Approval.class),
+                    PoolFile.Approval.Manual.name())),
         rolling == null ? d.maxRollingWorkloads() : rolling,
         cooldown == null ? d.cooldownSeconds() : cooldown,
         threshold == null ? d.changeThresholdPercent() : threshold,
