@@ -7,14 +7,10 @@ import dev.heapherd.engine.PoolPlan;
 import dev.heapherd.input.ErrorText;
 import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
-import dev.heapherd.input.PoolFileReader;
 import dev.heapherd.input.Snapshot;
-import dev.heapherd.input.SnapshotReader;
-import dev.heapherd.metrics.PrometheusEndpoint;
 import dev.heapherd.plan.PlanDocument;
 import dev.heapherd.plan.PlanTable;
 import dev.heapherd.proposal.ProposalBuilder;
-import java.nio.file.Path;
 import java.util.concurrent.Callable;
 import picocli.CommandLine;
 import picocli.CommandLine.Command;
@@ -34,13 +30,7 @@ final class PlanCommand implements Callable<Integer> {
     json
   }
 
-  @Option(names = "--pool", required = true, description = "HeapPool YAML file.")
-  Path pool;
-
-  @Option(names = "--snapshot", description = "Metrics snapshot (YAML or JSON).")
-  Path snapshot;
-
-  @Mixin MetricsOptions metrics;
+  @Mixin PoolInputs inputs;
 
   @Option(
       names = {"-o", "--output"},
@@ -54,18 +44,13 @@ final class PlanCommand implements Callable<Integer> {
   public Integer call() throws JsonProcessingException {
     PlanDocument doc;
     try {
-      if ((snapshot == null) == (metrics.server.prometheus == null)) {
-        throw new InputException("plan", "", "give exactly one of --snapshot or --prometheus");
-      }
-      PoolFile poolFile = PoolFileReader.read(pool);
-      Snapshot measured =
-          snapshot != null ? SnapshotReader.read(snapshot) : metrics.measure(poolFile);
-      String source =
-          snapshot != null
-              ? snapshot.toString()
-              : PrometheusEndpoint.redacted(metrics.server.prometheus);
+      inputs.requireOneSource("plan");
+      PoolFile poolFile = inputs.readPool();
+      Snapshot measured = inputs.measurements(poolFile);
       PoolPlan plan =
-          ProposalBuilder.fromMeasurements(poolFile, pool.toString(), measured, source).plan();
+          ProposalBuilder.fromMeasurements(
+                  poolFile, inputs.pool.toString(), measured, inputs.source())
+              .plan();
       doc = PlanDocument.of(poolFile, measured, plan);
     } catch (InputException e) {
       spec.commandLine().getErr().println("heapherd: " + ErrorText.oneLine(e.getMessage()));

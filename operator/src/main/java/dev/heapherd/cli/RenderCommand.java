@@ -3,10 +3,7 @@ package dev.heapherd.cli;
 import dev.heapherd.input.ErrorText;
 import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
-import dev.heapherd.input.PoolFileReader;
 import dev.heapherd.input.Snapshot;
-import dev.heapherd.input.SnapshotReader;
-import dev.heapherd.metrics.PrometheusEndpoint;
 import dev.heapherd.render.FolderWriter;
 import dev.heapherd.render.ManifestFile;
 import dev.heapherd.render.ManifestFolder;
@@ -32,13 +29,7 @@ import picocli.CommandLine.Option;
             + " Exit 0: nothing changed; 3: changes written (with --check: would be).")
 final class RenderCommand implements Callable<Integer> {
 
-  @Option(names = "--pool", required = true, description = "HeapPool YAML file.")
-  Path pool;
-
-  @Option(names = "--snapshot", description = "Metrics snapshot (YAML or JSON).")
-  Path snapshot;
-
-  @Mixin MetricsOptions metrics;
+  @Mixin PoolInputs inputs;
 
   @Option(
       names = "--manifests",
@@ -62,25 +53,25 @@ final class RenderCommand implements Callable<Integer> {
     PoolFile poolFile;
     String namespace;
     try {
-      if ((snapshot == null) == (metrics.server.prometheus == null)) {
-        throw new InputException("render", "", "give exactly one of --snapshot or --prometheus");
-      }
+      inputs.requireOneSource("render");
       if (output != null) {
         checkApart(manifests, output);
       }
-      poolFile = PoolFileReader.read(pool);
+      poolFile = inputs.readPool();
       List<String> files = ManifestFolder.files(manifests);
       List<ManifestFile> read = ManifestFolder.read(manifests, files);
-      namespace = metrics.namespace != null ? metrics.namespace : poolFile.namespace();
-      Snapshot measured =
-          snapshot != null ? SnapshotReader.read(snapshot) : metrics.measure(poolFile);
-      String source =
-          snapshot != null
-              ? snapshot.toString()
-              : PrometheusEndpoint.redacted(metrics.server.prometheus);
+      namespace =
+          inputs.metrics.namespace != null ? inputs.metrics.namespace : poolFile.namespace();
+      Snapshot measured = inputs.measurements(poolFile);
       outcome =
           Renderer.render(
-              poolFile, pool.toString(), measured, source, namespace, manifests.toString(), read);
+              poolFile,
+              inputs.pool.toString(),
+              measured,
+              inputs.source(),
+              namespace,
+              manifests.toString(),
+              read);
       if (!check) {
         write(files, outcome);
       }

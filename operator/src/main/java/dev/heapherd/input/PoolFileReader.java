@@ -3,13 +3,11 @@ package dev.heapherd.input;
 import dev.heapherd.engine.Objective;
 import java.nio.file.Path;
 import java.util.ArrayList;
-import java.util.Arrays;
 import java.util.HashSet;
 import java.util.List;
 import java.util.Optional;
 import java.util.Set;
 import java.util.regex.Pattern;
-import java.util.stream.Collectors;
 
 /**
  * Reads and validates a HeapPool file.
@@ -182,9 +180,7 @@ public final class PoolFileReader {
     PoolFile.Mode mode =
         PoolFile.Mode.valueOf(
             spec.oneOfOrDefault(
-                "mode",
-                Arrays.stream(PoolFile.Mode.values()).map(Enum::name).collect(Collectors.toSet()),
-                PoolFile.Mode.DryRun.name()));
+                "mode", PoolFile.names(PoolFile.Mode.class), PoolFile.Mode.DryRun.name()));
     Objective objective = objective(spec);
     Field selector = spec.required("selector").allowOnly(Set.of("matchLabels"));
     var matchLabels = selector.required("matchLabels").stringMap();
