@@ -9,6 +9,7 @@ import io.micrometer.core.instrument.MeterRegistry;
 import io.micrometer.core.instrument.Tag;
 import io.micrometer.core.instrument.Tags;
 import io.micrometer.core.instrument.Timer;
+import io.micrometer.core.instrument.binder.MeterBinder;
 import java.time.Duration;
 import java.util.HashMap;
 import java.util.List;
@@ -19,8 +20,12 @@ import java.util.concurrent.atomic.AtomicReference;
 import java.util.stream.Collectors;
 import java.util.stream.Stream;
 
-/** heapherd's own meters: what it proposes, what it changes and how long it takes. */
-public final class OperatorMetrics {
+/**
+ * heapherd's own meters: what it proposes, what it changes and how long it takes. Bound to a
+ * registry once; its meters are registered there per pool as pools are visited, and removed with
+ * their pool.
+ */
+public final class OperatorMetrics implements MeterBinder {
 
   private static final String PREFIX = "heapherd.";
   private static final String NAMESPACE = "namespace";
@@ -30,12 +35,22 @@ public final class OperatorMetrics {
   /** Key of the cache of gauges only: which meter the tags belong to. */
   private static final String METER = "meter";
 
-  private final MeterRegistry registry;
+  private volatile MeterRegistry registry;
   private final Map<Tags, AtomicReference<Double>> gauges = new ConcurrentHashMap<>();
 
-  /** Registers into {@code registry}. */
-  public OperatorMetrics(MeterRegistry registry) {
+  /** Registers its meters into {@code registry} from now on. */
+  @Override
+  public void bindTo(MeterRegistry registry) {
     this.registry = registry;
+  }
+
+  private MeterRegistry registry() {
+    MeterRegistry bound = registry;
+    if (bound == null) {
+      // A wiring defect of ours: the runtime binds the meters before any pool is visited.
+      throw new IllegalStateException("OperatorMetrics used before bindTo");
+    }
+    return bound;
   }
 
   /** The heap a workload runs with now and the one proposed for it. */
@@ -92,7 +107,7 @@ public final class OperatorMetrics {
     Counter.builder(PREFIX + "rollout.steps")
         .description("Rollout steps heapherd took on workloads")
         .tags(NAMESPACE, namespace, POOL, pool, "step", step)
-        .register(registry)
+        .register(registry())
         .increment();
   }
 
@@ -101,7 +116,7 @@ public final class OperatorMetrics {
     Counter.builder(PREFIX + "rails.tripped")
         .description("Times a safety rail held a workload back")
         .tags(NAMESPACE, namespace, POOL, pool, "rail", rail)
-        .register(registry)
+        .register(registry())
         .increment();
   }
 
@@ -110,7 +125,7 @@ public final class OperatorMetrics {
     Timer.builder(PREFIX + "reconcile.duration")
         .description("Time to reconcile one pool")
         .tags(NAMESPACE, namespace, POOL, pool)
-        .register(registry)
+        .register(registry())
         .record(took);
   }
 
@@ -143,7 +158,7 @@ public final class OperatorMetrics {
    *     map keep their workload meters
    */
   void retain(Set<String> pools, Map<String, Set<String>> workloads) {
-    for (Meter meter : List.copyOf(registry.getMeters())) {
+    for (Meter meter : List.copyOf(registry().getMeters())) {
       Meter.Id id = meter.getId();
       if (!id.getName().startsWith(PREFIX) || id.getTag(POOL) == null) {
         continue;
@@ -156,7 +171,7 @@ public final class OperatorMetrics {
                   && selected != null
                   && !selected.contains(id.getTag(WORKLOAD)));
       if (gone) {
-        registry.remove(meter);
+        registry().remove(meter);
         gauges.keySet().removeIf(k -> k.stream().allMatch(t -> tagOf(id, t)));
       }
     }
@@ -178,7 +193,7 @@ public final class OperatorMetrics {
               .description(description)
               .baseUnit(unit)
               .tags(tags)
-              .register(registry);
+              .register(registry());
           return value;
         });
   }

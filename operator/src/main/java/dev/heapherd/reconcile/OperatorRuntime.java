@@ -82,8 +82,9 @@ public final class OperatorRuntime implements AutoCloseable {
                                   null,
                                   settings.exitOnLostLease())));
             });
-    var reconciler =
-        new HeapPoolReconciler(metrics, Clock.systemUTC(), new OperatorMetrics(registry));
+    OperatorMetrics meters = new OperatorMetrics();
+    meters.bindTo(registry);
+    var reconciler = new HeapPoolReconciler(metrics, Clock.systemUTC(), meters);
     if (settings.namespaces().isEmpty()) {
       operator.register(reconciler);
     } else {

@@ -1,7 +1,9 @@
 package dev.heapherd.reconcile;
 
 import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
 
+import io.micrometer.core.instrument.MeterRegistry;
 import io.micrometer.core.instrument.simple.SimpleMeterRegistry;
 import java.time.Duration;
 import org.junit.jupiter.api.Test;
@@ -10,7 +12,7 @@ import org.junit.jupiter.api.Test;
 class OperatorMetricsTest {
 
   private final SimpleMeterRegistry registry = new SimpleMeterRegistry();
-  private final OperatorMetrics metrics = new OperatorMetrics(registry);
+  private final OperatorMetrics metrics = bound(registry);
 
   @Test
   void heapsArePerWorkloadGaugesInBytes() {
@@ -100,7 +102,7 @@ class OperatorMetricsTest {
     var prometheus =
         new io.micrometer.prometheusmetrics.PrometheusMeterRegistry(
             io.micrometer.prometheusmetrics.PrometheusConfig.DEFAULT);
-    OperatorMetrics served = new OperatorMetrics(prometheus);
+    OperatorMetrics served = bound(prometheus);
     served.heap("larkspur", "orders", "price-engine", 512L << 20, 900L << 20);
     served.predictedGc("larkspur", "orders", 120.5, 80.25);
     served.checkedGc("larkspur", "orders", "price-engine", 30, 28);
@@ -122,5 +124,18 @@ class OperatorMetricsTest {
           .isTrue();
     }
     assertThat(listed).isGreaterThanOrEqualTo(9);
+  }
+
+  @Test
+  void metersUsedBeforeBindingFailLoudly() {
+    assertThatThrownBy(() -> new OperatorMetrics().step("larkspur", "orders", "started"))
+        .isInstanceOf(IllegalStateException.class)
+        .hasMessageContaining("bindTo");
+  }
+
+  private static OperatorMetrics bound(MeterRegistry registry) {
+    OperatorMetrics metrics = new OperatorMetrics();
+    metrics.bindTo(registry);
+    return metrics;
   }
 }
