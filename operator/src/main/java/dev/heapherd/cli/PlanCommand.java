@@ -9,6 +9,7 @@ import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Snapshot;
 import dev.heapherd.plan.PlanDocument;
+import dev.heapherd.plan.PlanPage;
 import dev.heapherd.plan.PlanTable;
 import dev.heapherd.proposal.ProposalBuilder;
 import java.util.concurrent.Callable;
@@ -27,7 +28,8 @@ final class PlanCommand implements Callable<Integer> {
   /** Output formats of the plan. */
   enum Format {
     table,
-    json
+    json,
+    html
   }
 
   @Mixin PoolInputs inputs;
@@ -57,10 +59,13 @@ final class PlanCommand implements Callable<Integer> {
       return Main.EXIT_BAD_INPUT;
     }
     String text =
-        format == Format.json
-            ? new ObjectMapper().enable(SerializationFeature.INDENT_OUTPUT).writeValueAsString(doc)
-                + System.lineSeparator()
-            : PlanTable.render(doc);
+        switch (format) {
+          case json ->
+              new ObjectMapper().enable(SerializationFeature.INDENT_OUTPUT).writeValueAsString(doc)
+                  + System.lineSeparator();
+          case html -> PlanPage.render(doc);
+          case table -> PlanTable.render(doc);
+        };
     spec.commandLine().getOut().print(text);
     spec.commandLine().getOut().flush();
     return 0;
