@@ -17,6 +17,8 @@ need_packages() {
   [ -x /usr/bin/prometheus ] || missing+=(prometheus)
   command -v openssl >/dev/null || missing+=(openssl)
   command -v curl >/dev/null || missing+=(curl)
+  # The review page is tested in a real headless browser.
+  [ -x /usr/bin/chromium ] || missing+=(chromium)
   if [ ${#missing[@]} -gt 0 ]; then
     echo "Installing Debian packages for the real-component tests: ${missing[*]}"
     local sudo=()

@@ -32,6 +32,11 @@ final class CurvePlot {
   /** The lowest plot top, so a workload with no GC time still gets a drawable axis. */
   private static final double MIN_TOP_SECONDS_PER_HOUR = 1e-3;
 
+  /** The four marked heaps, in this order, with the glyph the legend shows for each. */
+  private static final String[] NAMES = {"today", "proposal", "linear rule", "equal split"};
+
+  private static final String[] GLYPHS = {"\u25CF", "\u25A0", "\u25B3", "\u25C7"};
+
   private CurvePlot() {}
 
   /** Appends the SVG plot of {@code w}'s curve. */
@@ -65,39 +70,58 @@ final class CurvePlot {
           .append(' ');
     }
     out.append("\"/>\n");
-    String[] names = {"today", "proposal", "linear rule", "equal split"};
-    String[] shapes = {"circle", "square", "triangle", "diamond"};
+    // Axes, with the range each covers written at their ends.
+    out.append("<path d=\"M")
+        .append(MARGIN)
+        .append(' ')
+        .append(MARGIN / 2)
+        .append(" V")
+        .append(HEIGHT - MARGIN)
+        .append(" H")
+        .append(WIDTH - MARGIN / 2)
+        .append("\" fill=\"none\" stroke=\"#555\"/>\n");
+    label(out, MARGIN, HEIGHT - MARGIN + 14, Quantity.format((long) low), "start");
+    label(out, WIDTH - MARGIN, HEIGHT - MARGIN + 14, Quantity.format((long) high), "end");
+    label(out, WIDTH / 2, HEIGHT - 8, "heap per pod", "middle");
+    label(out, MARGIN - 4, MARGIN / 2 + 4, String.format(Locale.ROOT, "%.1f", top), "end");
+    label(out, MARGIN - 4, HEIGHT - MARGIN, "0", "end");
+    label(out, MARGIN + 4, MARGIN / 2 - 4, "GC seconds per hour, one pod", "start");
     for (int i = 0; i < marks.length; i++) {
       double heap = marks[i];
-      double x = px(heap, low, high);
-      double y = py(Math.min(perHour(w, heap), top), top);
       out.append("<g data-mark=\"")
-          .append(names[i])
+          .append(NAMES[i])
           .append("\" data-heap-bytes=\"")
           .append(marks[i])
           .append("\">")
-          .append(shape(shapes[i], x, y))
-          .append("<text x=\"")
-          .append(PlanPage.number(x + 6))
-          .append("\" y=\"")
-          .append(PlanPage.number(y - 6 - 10 * i))
-          .append("\" font-size=\"10\">")
-          .append(names[i])
-          .append(' ')
-          .append(Quantity.format(marks[i]))
-          .append("</text></g>\n");
+          .append(shape(i, px(heap, low, high), py(Math.min(perHour(w, heap), top), top)))
+          .append("</g>\n");
     }
+    out.append("</svg>\n<table class=\"marks\"><tr><th>mark</th><th>split</th><th>heap</th>")
+        .append("<th>GC s/h, one pod</th></tr>\n");
+    for (int i = 0; i < marks.length; i++) {
+      out.append("<tr><td>")
+          .append(GLYPHS[i])
+          .append("</td><td>")
+          .append(NAMES[i])
+          .append("</td><td>")
+          .append(Quantity.format(marks[i]))
+          .append("</td><td>")
+          .append(String.format(Locale.ROOT, "%.1f", perHour(w, marks[i])))
+          .append("</td></tr>\n");
+    }
+    out.append("</table>\n");
+  }
+
+  private static void label(StringBuilder out, double x, double y, String text, String anchor) {
     out.append("<text x=\"")
-        .append(MARGIN)
+        .append(PlanPage.number(x))
         .append("\" y=\"")
-        .append(HEIGHT - 6)
-        .append("\" font-size=\"10\">heap per pod, ")
-        .append(Quantity.format((long) low))
-        .append(" to ")
-        .append(Quantity.format((long) high))
-        .append("; GC seconds per hour per pod up to ")
-        .append(String.format(Locale.ROOT, "%.1f", top))
-        .append("</text>\n</svg>\n");
+        .append(PlanPage.number(y))
+        .append("\" font-size=\"11\" text-anchor=\"")
+        .append(anchor)
+        .append("\">")
+        .append(PlanPage.esc(text))
+        .append("</text>\n");
   }
 
   /** GC seconds per hour of one pod at {@code heapBytes}, from the plan's curve (docs/model.md). */
@@ -119,24 +143,20 @@ final class CurvePlot {
     return (w.liveBytes() + w.offsetBytes()) / w.oldShare().value();
   }
 
-  private static String shape(String kind, double x, double y) {
-    return switch (kind) {
-      case "circle" ->
-          "<circle cx=\"" + PlanPage.number(x) + "\" cy=\"" + PlanPage.number(y) + "\" r=\"4\"/>";
-      case "square" ->
+  /** Mark {@code i}: filled circle, filled square, open triangle, open diamond. */
+  private static String shape(int i, double x, double y) {
+    String open = "\" fill=\"none\" stroke=\"#111\" stroke-width=\"1.5\"/>";
+    return switch (i) {
+      case 0 ->
+          "<circle cx=\"" + PlanPage.number(x) + "\" cy=\"" + PlanPage.number(y) + "\" r=\"5\"/>";
+      case 1 ->
           "<rect x=\""
-              + PlanPage.number(x - 4)
+              + PlanPage.number(x - 5)
               + "\" y=\""
-              + PlanPage.number(y - 4)
-              + "\" width=\"8\" height=\"8\"/>";
-      case "triangle" ->
-          "<polygon points=\""
-              + points(x, y - 5, x - 5, y + 4, x + 5, y + 4)
-              + "\" fill=\"none\" stroke=\"#111\"/>";
-      default ->
-          "<polygon points=\""
-              + points(x, y - 5, x + 5, y, x, y + 5, x - 5, y)
-              + "\" fill=\"none\" stroke=\"#111\"/>";
+              + PlanPage.number(y - 5)
+              + "\" width=\"10\" height=\"10\"/>";
+      case 2 -> "<polygon points=\"" + points(x, y - 7, x - 6, y + 5, x + 6, y + 5) + open;
+      default -> "<polygon points=\"" + points(x, y - 7, x + 7, y, x, y + 7, x - 7, y) + open;
     };
   }
 

@@ -22,7 +22,10 @@ public final class PlanPage {
       th:first-child,td:first-child{text-align:left}
       .caution{border:2px solid #111;padding:.6rem;font-weight:600}
       .workload{display:flex;flex-wrap:wrap;gap:1rem;align-items:flex-start;break-inside:avoid}
+      .plot{flex:1 1 22rem;max-width:32rem}.plot svg{width:100%}
       svg{max-width:100%;height:auto}
+      .marks td:first-child{text-align:center}
+      #memory td:nth-child(2),#memory th:nth-child(2){text-align:left}
       @media print{body{max-width:none}.workload{page-break-inside:avoid}}
       """;
 
@@ -89,7 +92,10 @@ public final class PlanPage {
         .append("</td></tr>\n");
   }
 
-  /** The budget as one bar: each workload's pods at their proposed limits, then held memory. */
+  /**
+   * The budget as one bar: each workload's pods at their proposed limits, numbered as in the table
+   * under it, then held memory.
+   */
   private static void budget(StringBuilder out, PlanDocument doc) {
     out.append("<h2>Budget ")
         .append(Quantity.format(doc.budgetBytes()))
@@ -97,34 +103,52 @@ public final class PlanPage {
         .append(Quantity.format(doc.usedBytes()))
         .append("</h2>\n<svg id=\"budget\" viewBox=\"0 0 ")
         .append(WIDTH)
-        .append(" 60\" role=\"img\" aria-label=\"budget split by workload\">\n");
+        .append(" 40\" role=\"img\" aria-label=\"budget split by workload\">\n");
     double scale = (double) WIDTH / Math.max(doc.budgetBytes(), doc.usedBytes());
     double x = 0;
-    int i = 0;
+    StringBuilder rows = new StringBuilder();
+    int n = 0;
     for (PlanDocument.WorkloadEntry w : doc.workloads()) {
-      double bytes = (double) w.replicas() * w.limitBytes();
-      x = segment(out, x, bytes * scale, w.name(), i++ % 2 == 0 ? "#9ab" : "#cde");
+      long bytes = (long) w.replicas() * w.limitBytes();
+      n++;
+      x = segment(out, x, bytes * scale, Integer.toString(n), n % 2 == 0 ? "#cde" : "#9ab");
+      share(rows, Integer.toString(n), w.name() + " (" + w.replicas() + " pods)", bytes);
     }
     if (doc.heldMemoryBytes() > 0) {
-      segment(out, x, doc.heldMemoryBytes() * scale, "held", "#eee");
+      segment(out, x, doc.heldMemoryBytes() * scale, "H", "#fff");
+      share(rows, "H", "held workloads", doc.heldMemoryBytes());
     }
-    out.append("</svg>\n");
+    share(rows, "", "unused", Math.max(0, doc.budgetBytes() - doc.usedBytes()));
+    out.append("</svg>\n<table id=\"memory\"><tr><th>bar</th><th>memory of</th>")
+        .append("<th>bytes</th></tr>\n")
+        .append(rows)
+        .append("</table>\n");
+  }
+
+  private static void share(StringBuilder rows, String key, String what, long bytes) {
+    rows.append("<tr><td>")
+        .append(key)
+        .append("</td><td>")
+        .append(esc(what))
+        .append("</td><td data-bytes=\"")
+        .append(bytes)
+        .append("\">")
+        .append(Quantity.format(bytes))
+        .append("</td></tr>\n");
   }
 
   private static double segment(
-      StringBuilder out, double x, double width, String label, String fill) {
+      StringBuilder out, double x, double width, String key, String fill) {
     out.append("<rect x=\"")
         .append(number(x))
         .append("\" y=\"4\" height=\"30\" width=\"")
         .append(number(width))
         .append("\" fill=\"")
         .append(fill)
-        .append("\" stroke=\"#111\"><title>")
-        .append(esc(label))
-        .append("</title></rect><text x=\"")
-        .append(number(x + 2))
-        .append("\" y=\"50\" font-size=\"10\">")
-        .append(esc(label))
+        .append("\" stroke=\"#111\"/><text x=\"")
+        .append(number(x + width / 2))
+        .append("\" y=\"24\" font-size=\"11\" text-anchor=\"middle\">")
+        .append(key)
         .append("</text>\n");
     return x + width;
   }
@@ -136,7 +160,9 @@ public final class PlanPage {
         .append("</h2>\n<div class=\"workload\" data-workload=\"")
         .append(esc(w.name()))
         .append("\">\n");
+    out.append("<div class=\"plot\">");
     CurvePlot.append(out, w);
+    out.append("</div>\n");
     out.append("<table><tr><th>input</th><th>value</th></tr>\n");
     fact(out, "heap today", Quantity.format(w.currentHeapBytes()));
     fact(out, "heap proposed", Quantity.format(w.heapBytes()));
@@ -146,7 +172,7 @@ public final class PlanPage {
     fact(out, "young share", share(w.young().share()));
     fact(out, "old share", share(w.oldShare()));
     fact(out, "heaps measured", Integer.toString(w.curveHeaps()));
-    fact(out, "confidence", esc(w.confidence()));
+    fact(out, "confidence", w.confidence().isEmpty() ? "not stated" : esc(w.confidence()));
     out.append("</table>\n</div>\n");
   }
 
