@@ -4,6 +4,7 @@ import dev.heapherd.input.ErrorText;
 import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Snapshot;
+import dev.heapherd.plan.PlanPage;
 import dev.heapherd.render.FolderWriter;
 import dev.heapherd.render.ManifestFile;
 import dev.heapherd.render.ManifestFolder;
@@ -42,8 +43,15 @@ final class RenderCommand implements Callable<Integer> {
       description = "Folder to write a copy of the manifests to (default: change them in place).")
   Path output;
 
-  @Option(names = "--check", description = "Write nothing; only report and set the exit code.")
+  @Option(
+      names = "--check",
+      description = "Write no manifest; only report and set the exit code (--report is written).")
   boolean check;
+
+  @Option(
+      names = "--report",
+      description = "Also write the plan's review page (HTML, self-contained) to this file.")
+  Path report;
 
   @CommandLine.Spec CommandLine.Model.CommandSpec spec;
 
@@ -72,6 +80,9 @@ final class RenderCommand implements Callable<Integer> {
               namespace,
               manifests.toString(),
               read);
+      if (report != null) {
+        writeReport(outcome);
+      }
       if (!check) {
         write(files, outcome);
       }
@@ -85,6 +96,19 @@ final class RenderCommand implements Callable<Integer> {
         .print(RenderReport.text(outcome, poolFile.name(), namespace, target, check));
     spec.commandLine().getOut().flush();
     return outcome.changes().isEmpty() ? 0 : Main.EXIT_CHANGES;
+  }
+
+  /** The review page, written as manifests are: beside itself first, never through a link. */
+  private void writeReport(Renderer.Outcome outcome) throws InputException {
+    Path file = report.toAbsolutePath().normalize();
+    if (file.getParent() == null || file.getFileName() == null) {
+      throw new InputException("--report", "", report + " is not a file path");
+    }
+    FolderWriter writer = new FolderWriter(file.getParent());
+    writer.add(
+        file.getFileName().toString(),
+        PlanPage.render(outcome.review()).getBytes(StandardCharsets.UTF_8));
+    writer.commit();
   }
 
   /** A folder inside the other would read its own output on the next run, or copy into itself. */

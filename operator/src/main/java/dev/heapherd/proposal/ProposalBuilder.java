@@ -31,9 +31,14 @@ public final class ProposalBuilder {
    * @param proposal as published in status
    * @param targets proposed sizes by workload name
    * @param plan the engine's answer it came from
+   * @param input what the plan was made from: the measured workloads the pool selects, with the
+   *     replicas their specs ask for, and every held one with its memory
    */
   public record Result(
-      HeapPoolStatus.Proposal proposal, Map<String, Target> targets, PoolPlan plan) {}
+      HeapPoolStatus.Proposal proposal,
+      Map<String, Target> targets,
+      PoolPlan plan,
+      Snapshot input) {}
 
   /**
    * Plans the pool. Workloads the snapshot holds, that opted out or were rolled back keep their
@@ -170,7 +175,7 @@ public final class ProposalBuilder {
         ProposalStatus.of(pool, plan, states, kinds, held, sidecarBytes, input.heldMemoryBytes());
     p.hash = hash(targets);
     p.computedAt = now.toString();
-    return new Result(p, targets, plan);
+    return new Result(p, targets, plan, input);
   }
 
   /**

@@ -4,6 +4,7 @@ import dev.heapherd.engine.PoolPlan;
 import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Snapshot;
+import dev.heapherd.plan.PlanDocument;
 import dev.heapherd.proposal.ProposalBuilder;
 import dev.heapherd.rollout.WorkloadState;
 import java.util.Comparator;
@@ -52,6 +53,7 @@ public final class Renderer {
    * @param files every manifest file, those in {@code changedFiles} with their new text
    * @param changedFiles paths under the manifests folder of the files that change
    * @param plan the engine's answer
+   * @param review the plan as {@code plan -o json} and the review page show it
    */
   public record Outcome(
       List<Change> changes,
@@ -59,7 +61,8 @@ public final class Renderer {
       List<String> unplanned,
       List<ManifestFile> files,
       Set<String> changedFiles,
-      PoolPlan plan) {}
+      PoolPlan plan,
+      PlanDocument review) {}
 
   /**
    * Renders {@code pool} into {@code files}.
@@ -114,6 +117,12 @@ public final class Renderer {
             .sorted()
             .toList();
     return new Outcome(
-        edited.changes(), kept, unplanned, edited.files(), edited.changedFiles(), proposal.plan());
+        edited.changes(),
+        kept,
+        unplanned,
+        edited.files(),
+        edited.changedFiles(),
+        proposal.plan(),
+        PlanDocument.of(pool, proposal.input(), proposal.plan()));
   }
 }

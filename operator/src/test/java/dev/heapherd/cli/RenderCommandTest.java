@@ -660,6 +660,33 @@ class RenderCommandTest {
   }
 
   @Test
+  void writesTheReviewPageBesideAChecksManifestsUntouched() throws IOException {
+    Path manifests = example();
+    Map<String, String> before = contents(manifests);
+    Path report = dir.resolve("review/dispatch.html");
+    Files.createDirectories(report.getParent());
+
+    PlanRun run = render(POOL, manifests, "--check", "--report", report.toString());
+
+    assertThat(run.exitCode()).as("stderr: %s", run.err()).isEqualTo(Main.EXIT_CHANGES);
+    assertThat(contents(manifests)).isEqualTo(before);
+    String page = Files.readString(report);
+    assertThat(page).startsWith("<!DOCTYPE html>").contains("data-workload=\"warehouse-sync\"");
+    assertThat(page).contains("Caution: ");
+  }
+
+  @Test
+  void neverWritesTheReviewPageThroughALink() throws IOException {
+    Path manifests = example();
+    Path outside = write("outside.html", "kept\n");
+    Path link = Files.createSymbolicLink(dir.resolve("review.html"), outside);
+
+    render(POOL, manifests, "--check", "--report", link.toString())
+        .assertRejected(link.toAbsolutePath(), "", "is a symbolic link");
+    assertThat(Files.readString(outside)).isEqualTo("kept\n");
+  }
+
+  @Test
   void needsExactlyOneMetricsSource() throws IOException {
     Path manifests = example();
 
