@@ -32,6 +32,11 @@ public class HeapPoolStatus {
       "The latest check of predictions against measurement, summed over the workloads checked.")
   public PredictionCheck lastPredictionCheck;
 
+  @JsonPropertyDescription(
+      "Path of the pool's review page (the latest computed plan, HTML) on the operator's HTTP"
+          + " port, e.g. /pools/shop/checkout.")
+  public String reviewPage;
+
   /** What is known of one workload's GC cost curve. */
   @JsonInclude(JsonInclude.Include.NON_NULL)
   public static class WorkloadCurve {

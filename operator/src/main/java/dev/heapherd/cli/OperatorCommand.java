@@ -96,7 +96,8 @@ final class OperatorCommand implements Callable<Integer> {
       return Main.EXIT_INTERNAL_ERROR;
     }
     CountDownLatch stopped = new CountDownLatch(1);
-    try (HealthServer health = HealthServer.start(address, registry, runtime::healthy)) {
+    try (HealthServer health =
+        HealthServer.start(address, registry, runtime::healthy, runtime::reviewPage)) {
       Runtime.getRuntime()
           .addShutdownHook(
               new Thread(

@@ -50,13 +50,16 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
   private final MetricsSource metrics;
   private final Clock clock;
   private final OperatorMetrics meters;
+  private final ReviewPages pages;
   private WorkloadCaches caches;
 
-  /** A reconciler measuring through {@code metrics}. */
-  public HeapPoolReconciler(MetricsSource metrics, Clock clock, OperatorMetrics meters) {
+  /** A reconciler measuring through {@code metrics}, keeping each pool's page in {@code pages}. */
+  HeapPoolReconciler(
+      MetricsSource metrics, Clock clock, OperatorMetrics meters, ReviewPages pages) {
     this.metrics = metrics;
     this.clock = clock;
     this.meters = meters;
+    this.pages = pages;
   }
 
   @Override
@@ -96,6 +99,12 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
     meters.reconciled(
         visit.namespace(), pool.getMetadata().getName(), Duration.between(now, clock.instant()));
     meters.retainAfterVisit(context.getPrimaryCache().list(), pool, status);
+    pages.retain(
+        context
+            .getPrimaryCache()
+            .list()
+            .map(p -> ReviewPages.path(p.getMetadata().getNamespace(), p.getMetadata().getName()))
+            .collect(java.util.stream.Collectors.toSet()));
     UpdateControl<HeapPool> control;
     if (JSON.asJson(status).equals(before == null ? "" : JSON.asJson(before))) {
       control = UpdateControl.noUpdate();
@@ -120,7 +129,7 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
     boolean keep =
         o.anyInFlight()
             || StickyProposal.approvedAndPending(o.spec(), v.status().proposal, o.states());
-    ProposalPublisher.publish(v, o.spec(), o.states(), o.kinds(), snapshot, keep, meters);
+    ProposalPublisher.publish(v, o.spec(), o.states(), o.kinds(), snapshot, keep, meters, pages);
 
     List<RolloutStep> steps =
         new StepTaker(writer, meters)

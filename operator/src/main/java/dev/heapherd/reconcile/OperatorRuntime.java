@@ -17,6 +17,7 @@ public final class OperatorRuntime implements AutoCloseable {
   public static final String LEASE_NAME = "heapherd-leader";
 
   private final Operator operator;
+  private final ReviewPages pages;
 
   /**
    * What to run.
@@ -45,8 +46,9 @@ public final class OperatorRuntime implements AutoCloseable {
    */
   private static final Duration RECONCILE_STOP_WAIT = Duration.ofSeconds(5);
 
-  private OperatorRuntime(Operator operator) {
+  private OperatorRuntime(Operator operator, ReviewPages pages) {
     this.operator = operator;
+    this.pages = pages;
   }
 
   /** Starts reconciling; returns once the informers have synced. */
@@ -84,14 +86,15 @@ public final class OperatorRuntime implements AutoCloseable {
             });
     OperatorMetrics meters = new OperatorMetrics();
     meters.bindTo(registry);
-    var reconciler = new HeapPoolReconciler(metrics, Clock.systemUTC(), meters);
+    ReviewPages pages = new ReviewPages();
+    var reconciler = new HeapPoolReconciler(metrics, Clock.systemUTC(), meters, pages);
     if (settings.namespaces().isEmpty()) {
       operator.register(reconciler);
     } else {
       operator.register(reconciler, c -> c.settingNamespaces(settings.namespaces()));
     }
     operator.start();
-    return new OperatorRuntime(operator);
+    return new OperatorRuntime(operator, pages);
   }
 
   /**
@@ -101,6 +104,19 @@ public final class OperatorRuntime implements AutoCloseable {
    */
   public boolean healthy() {
     return operator.getRuntimeInfo().isStarted();
+  }
+
+  /**
+   * The review page served at {@code path} ({@code /pools/NAMESPACE/NAME}, as the pool's
+   * status.reviewPage says), if that pool has one.
+   */
+  public Optional<String> reviewPage(String path) {
+    return pages.at(path);
+  }
+
+  /** Where review pages are served on the operator's HTTP port. */
+  public static String reviewPagesPrefix() {
+    return ReviewPages.PREFIX;
   }
 
   @Override

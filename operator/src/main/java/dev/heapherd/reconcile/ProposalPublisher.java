@@ -5,6 +5,7 @@ import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Quantity;
 import dev.heapherd.input.Snapshot;
+import dev.heapherd.plan.PlanDocument;
 import dev.heapherd.proposal.ProposalBuilder;
 import dev.heapherd.proposal.StickyProposal;
 import dev.heapherd.rollout.WorkloadState;
@@ -31,7 +32,8 @@ final class ProposalPublisher {
       Map<String, String> kinds,
       Snapshot snapshot,
       boolean keepPublished,
-      OperatorMetrics meters) {
+      OperatorMetrics meters,
+      ReviewPages pages) {
     Snapshot learned = CurveHistory.withHistory(snapshot, v.status());
     for (CurveHistory.Check check : CurveHistory.record(v.status(), snapshot, v.now())) {
       checked(v, check, meters);
@@ -49,6 +51,9 @@ final class ProposalPublisher {
       return;
     }
     var plan = fresh.plan();
+    String name = v.pool().getMetadata().getName();
+    pages.put(v.namespace(), name, PlanDocument.of(spec, fresh.input(), plan));
+    v.status().reviewPage = ReviewPages.path(v.namespace(), name);
     if (plan.feasible()) {
       v.set(
           Conditions.BUDGET_FEASIBLE,

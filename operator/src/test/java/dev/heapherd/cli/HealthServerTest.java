@@ -10,6 +10,8 @@ import java.net.URI;
 import java.net.http.HttpClient;
 import java.net.http.HttpRequest;
 import java.net.http.HttpResponse;
+import java.util.Map;
+import java.util.Optional;
 import java.util.concurrent.atomic.AtomicBoolean;
 import org.junit.jupiter.api.Test;
 
@@ -38,6 +40,34 @@ class HealthServerTest {
       assertThat(get(base + "/readyz").statusCode()).isEqualTo(503);
       ready.set(true);
       assertThat(get(base + "/readyz").statusCode()).isEqualTo(200);
+    }
+  }
+
+  @Test
+  void servesEachPoolsReviewPageReadOnly() throws Exception {
+    PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
+    Map<String, String> pages = Map.of("/pools/shop/checkout", "<!DOCTYPE html><p>checkout</p>");
+    try (HealthServer server =
+        HealthServer.start(
+            new InetSocketAddress("127.0.0.1", 0),
+            registry,
+            () -> true,
+            path -> Optional.ofNullable(pages.get(path)))) {
+      String base = "http://127.0.0.1:" + server.port();
+
+      var page = get(base + "/pools/shop/checkout");
+      assertThat(page.statusCode()).isEqualTo(200);
+      assertThat(page.body()).contains("checkout");
+      assertThat(page.headers().firstValue("Content-Type"))
+          .hasValueSatisfying(t -> assertThat(t).startsWith("text/html"));
+      assertThat(get(base + "/pools/shop/other").statusCode()).isEqualTo(404);
+      var post =
+          http.send(
+              HttpRequest.newBuilder(URI.create(base + "/pools/shop/checkout"))
+                  .POST(HttpRequest.BodyPublishers.ofString("x"))
+                  .build(),
+              HttpResponse.BodyHandlers.ofString());
+      assertThat(post.statusCode()).as("read-only").isEqualTo(404);
     }
   }
 

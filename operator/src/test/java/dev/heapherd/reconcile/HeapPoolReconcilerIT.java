@@ -115,6 +115,12 @@ class HeapPoolReconcilerIT {
     assertThat(condition(pool, "RolloutInProgress").getReason()).isEqualTo("DryRun");
     assertThat(versions()).isEqualTo(before);
     assertThat(events()).extracting(Event::getReason).contains("ProposalComputed");
+    // The status links the pool's review page, which the operator serves.
+    assertThat(pool.getStatus().reviewPage).isEqualTo("/pools/" + ns + "/orders");
+    assertThat(operator.reviewPage(pool.getStatus().reviewPage))
+        .hasValueSatisfying(
+            page ->
+                assertThat(page).contains("data-workload=\"price-engine\"").contains("Caution"));
     // The operator SDK's meters are in the same registry as heapherd's own.
     assertThat(operator.registry.getMeters())
         .extracting(m -> m.getId().getName())

@@ -64,6 +64,11 @@ final class OperatorHarness implements AutoCloseable {
                 false));
   }
 
+  /** The review page the operator serves at {@code path}, if any. */
+  Optional<String> reviewPage(String path) {
+    return operator.reviewPage(path);
+  }
+
   @Override
   public void close() {
     operator.close();
