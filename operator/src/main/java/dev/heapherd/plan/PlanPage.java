@@ -112,20 +112,20 @@ public final class PlanPage {
       long bytes = (long) w.replicas() * w.limitBytes();
       n++;
       x = segment(out, x, bytes * scale, Integer.toString(n), n % 2 == 0 ? "#cde" : "#9ab");
-      share(rows, Integer.toString(n), w.name() + " (" + w.replicas() + " pods)", bytes);
+      memoryRow(rows, Integer.toString(n), w.name() + " (" + w.replicas() + " pods)", bytes);
     }
     if (doc.heldMemoryBytes() > 0) {
       segment(out, x, doc.heldMemoryBytes() * scale, "H", "#fff");
-      share(rows, "H", "held workloads", doc.heldMemoryBytes());
+      memoryRow(rows, "H", "held workloads", doc.heldMemoryBytes());
     }
-    share(rows, "", "unused", Math.max(0, doc.budgetBytes() - doc.usedBytes()));
+    memoryRow(rows, "", "unused", Math.max(0, doc.budgetBytes() - doc.usedBytes()));
     out.append("</svg>\n<table id=\"memory\"><tr><th>bar</th><th>memory of</th>")
         .append("<th>bytes</th></tr>\n")
         .append(rows)
         .append("</table>\n");
   }
 
-  private static void share(StringBuilder rows, String key, String what, long bytes) {
+  private static void memoryRow(StringBuilder rows, String key, String what, long bytes) {
     rows.append("<tr><td>")
         .append(key)
         .append("</td><td>")
