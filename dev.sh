@@ -28,6 +28,17 @@ need_packages() {
   fi
 }
 
+# The lab driver needs PyYAML and the plots matplotlib (with Pillow); they go into a virtual
+# environment of their own, kept in the cache. Prints its folder.
+plot_venv() {
+  local venv="${HEAPHERD_CACHE:-$HOME/.cache/heapherd}/lab-venv"
+  if [ ! -x "$venv/bin/python" ] || ! "$venv/bin/python" -c "import matplotlib, PIL, yaml" 2>/dev/null; then
+    python3 -m venv "$venv" >&2
+    "$venv/bin/pip" install -q matplotlib pillow pyyaml >&2
+  fi
+  echo "$venv"
+}
+
 case "${1:-}" in
   demo)
     mvn_batch -q -DskipTests -Dspotless.check.skip=true package
@@ -51,20 +62,19 @@ case "${1:-}" in
   lab)
     need_packages
     mvn_batch -q -DskipTests -Dspotless.check.skip=true package
-    # The driver needs PyYAML and the plots matplotlib; they go into a virtual environment of its own, kept in the cache.
-    venv="${HEAPHERD_CACHE:-$HOME/.cache/heapherd}/lab-venv"
-    if [ ! -x "$venv/bin/python" ] || ! "$venv/bin/python" -c "import matplotlib, yaml" 2>/dev/null; then
-      python3 -m venv "$venv"
-      "$venv/bin/pip" install -q matplotlib pyyaml
-    fi
     shift
-    "$venv/bin/python" e2e/lab/compare.py "$@"
+    "$(plot_venv)/bin/python" e2e/lab/compare.py "$@"
+    ;;
+  plots)
+    # The figures of docs/model.md, from the lab's results and the worked example.
+    mvn_batch -q -DskipTests -Dspotless.check.skip=true package
+    "$(plot_venv)/bin/python" docs/figures/model.py
     ;;
   bench)
     mvn_batch -q -Pbench -pl operator -am -DskipTests -Dspotless.check.skip=true verify
     ;;
   *)
-    echo "usage: ./dev.sh demo|test|bench|crds|lab" >&2
+    echo "usage: ./dev.sh demo|test|bench|crds|lab|plots" >&2
     exit 2
     ;;
 esac
