@@ -31,7 +31,9 @@ public record PlanDocument(
     Forecast predictedGcSecondsPerHour,
     List<WorkloadEntry> workloads,
     List<Snapshot.Held> held,
-    String caution) {
+    String caution,
+    long sidecarMemoryBytes,
+    long surgeReserveBytes) {
 
   /** The caution every plan carries: changing production memory can cause outages. */
   public static final String CAUTION =
@@ -96,9 +98,23 @@ public record PlanDocument(
       String confidence,
       List<String> notes) {}
 
-  /** Builds the document from a plan and its inputs. */
+  /** Builds the document from a plan and its inputs, with nothing reserved beside the heaps. */
   public static PlanDocument of(PoolFile pool, Snapshot snapshot, PoolPlan plan) {
-    // Held workloads keep their containers: the pool's figures include what they use.
+    return of(pool, snapshot, plan, 0, 0);
+  }
+
+  /**
+   * Builds the document from a plan and its inputs.
+   *
+   * @param sidecarBytes memory of containers never resized, taken from the budget before planning
+   * @param surgeReserveBytes room kept in the budget for rollouts' surge pods
+   */
+  public static PlanDocument of(
+      PoolFile pool, Snapshot snapshot, PoolPlan plan, long sidecarBytes, long surgeReserveBytes) {
+    // Held workloads keep their containers, and under a budget sidecars and the surge room were
+    // taken from it before planning: the pool's figures include them.
+    long reserved =
+        plan.objective() instanceof Objective.Budget ? sidecarBytes + surgeReserveBytes : 0;
     long held = snapshot.heldMemoryBytes();
     List<WorkloadEntry> entries = new ArrayList<>();
     for (int i = 0; i < plan.workloads().size(); i++) {
@@ -110,16 +126,18 @@ public record PlanDocument(
         plan.objective() instanceof Objective.Budget ? "budget" : "prices",
         snapshot.capturedAt().toString(),
         snapshot.windowSeconds(),
-        plan.budgetBytes() + held,
+        plan.budgetBytes() + held + reserved,
         plan.feasible(),
-        plan.minimumBudgetBytes() + held,
-        plan.usedBytes() + held,
+        plan.minimumBudgetBytes() + held + reserved,
+        plan.usedBytes() + held + sidecarBytes,
         held,
         plan.level(),
         Forecast.of(plan.totalGcSecondsPerHour()),
         entries,
         snapshot.held(),
-        CAUTION);
+        CAUTION,
+        sidecarBytes,
+        surgeReserveBytes);
   }
 
   private static WorkloadEntry entry(WorkloadPlan p, Snapshot.Workload measured) {

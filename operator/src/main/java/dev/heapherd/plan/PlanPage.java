@@ -94,7 +94,7 @@ public final class PlanPage {
 
   /**
    * The budget as one bar: each workload's pods at their proposed limits, numbered as in the table
-   * under it, then held memory.
+   * under it, then held memory, the pods' other containers and the room kept for surge pods.
    */
   private static void budget(StringBuilder out, PlanDocument doc) {
     out.append("<h2>Budget ")
@@ -104,7 +104,8 @@ public final class PlanPage {
         .append("</h2>\n<svg id=\"budget\" viewBox=\"0 0 ")
         .append(WIDTH)
         .append(" 40\" role=\"img\" aria-label=\"budget split by workload\">\n");
-    double scale = (double) WIDTH / Math.max(doc.budgetBytes(), doc.usedBytes());
+    double scale =
+        (double) WIDTH / Math.max(doc.budgetBytes(), doc.usedBytes() + doc.surgeReserveBytes());
     double x = 0;
     StringBuilder rows = new StringBuilder();
     int n = 0;
@@ -115,10 +116,23 @@ public final class PlanPage {
       memoryRow(rows, Integer.toString(n), w.name() + " (" + w.replicas() + " pods)", bytes);
     }
     if (doc.heldMemoryBytes() > 0) {
-      segment(out, x, doc.heldMemoryBytes() * scale, "H", "#fff");
+      x = segment(out, x, doc.heldMemoryBytes() * scale, "H", "#fff");
       memoryRow(rows, "H", "held workloads", doc.heldMemoryBytes());
     }
-    memoryRow(rows, "", "unused", Math.max(0, doc.budgetBytes() - doc.usedBytes()));
+    if (doc.sidecarMemoryBytes() > 0) {
+      x = segment(out, x, doc.sidecarMemoryBytes() * scale, "S", "#fff");
+      memoryRow(
+          rows, "S", "other containers of the pods (never resized)", doc.sidecarMemoryBytes());
+    }
+    if (doc.surgeReserveBytes() > 0) {
+      segment(out, x, doc.surgeReserveBytes() * scale, "R", "#fff");
+      memoryRow(rows, "R", "room for rollouts' surge pods", doc.surgeReserveBytes());
+    }
+    memoryRow(
+        rows,
+        "",
+        "unused",
+        Math.max(0, doc.budgetBytes() - doc.usedBytes() - doc.surgeReserveBytes()));
     out.append("</svg>\n<table id=\"memory\"><tr><th>bar</th><th>memory of</th>")
         .append("<th>bytes</th></tr>\n")
         .append(rows)

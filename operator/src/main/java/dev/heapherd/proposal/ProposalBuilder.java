@@ -8,6 +8,7 @@ import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Quantity;
 import dev.heapherd.input.Snapshot;
 import dev.heapherd.observe.ShortHash;
+import dev.heapherd.plan.PlanDocument;
 import dev.heapherd.plan.Planner;
 import dev.heapherd.rollout.RolloutPlanner.Target;
 import dev.heapherd.rollout.WorkloadState;
@@ -33,12 +34,22 @@ public final class ProposalBuilder {
    * @param plan the engine's answer it came from
    * @param input what the plan was made from: the measured workloads the pool selects, with the
    *     replicas their specs ask for, and every held one with its memory
+   * @param sidecarBytes memory of the containers heapherd never resizes, taken from the budget
+   * @param surgeReserveBytes room kept in the budget for the surge pods of rollouts
    */
   public record Result(
       HeapPoolStatus.Proposal proposal,
       Map<String, Target> targets,
       PoolPlan plan,
-      Snapshot input) {}
+      Snapshot input,
+      long sidecarBytes,
+      long surgeReserveBytes) {
+
+    /** The plan as {@code plan -o json} and the review page show it. */
+    public PlanDocument document(PoolFile pool) {
+      return PlanDocument.of(pool, input, plan, sidecarBytes, surgeReserveBytes);
+    }
+  }
 
   /**
    * Plans the pool. Workloads the snapshot holds, that opted out or were rolled back keep their
@@ -165,6 +176,7 @@ public final class ProposalBuilder {
     long second = surgeReserve(states, firstLimits, rolling);
     if (second > reserve) {
       plan = Planner.plan(pool, poolSource, input, snapshotSource, sidecarBytes + second);
+      reserve = second;
     }
 
     Map<String, Target> targets = new LinkedHashMap<>();
@@ -175,7 +187,7 @@ public final class ProposalBuilder {
         ProposalStatus.of(pool, plan, states, kinds, held, sidecarBytes, input.heldMemoryBytes());
     p.hash = hash(targets);
     p.computedAt = now.toString();
-    return new Result(p, targets, plan, input);
+    return new Result(p, targets, plan, input, sidecarBytes, reserve);
   }
 
   /**

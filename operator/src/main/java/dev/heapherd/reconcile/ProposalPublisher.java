@@ -5,7 +5,6 @@ import dev.heapherd.input.InputException;
 import dev.heapherd.input.PoolFile;
 import dev.heapherd.input.Quantity;
 import dev.heapherd.input.Snapshot;
-import dev.heapherd.plan.PlanDocument;
 import dev.heapherd.proposal.ProposalBuilder;
 import dev.heapherd.proposal.StickyProposal;
 import dev.heapherd.rollout.WorkloadState;
@@ -52,7 +51,7 @@ final class ProposalPublisher {
     }
     var plan = fresh.plan();
     String name = v.pool().getMetadata().getName();
-    pages.put(v.namespace(), name, PlanDocument.of(spec, fresh.input(), plan));
+    pages.put(v.namespace(), name, fresh.document(spec));
     v.status().reviewPage = ReviewPages.path(v.namespace(), name);
     if (plan.feasible()) {
       v.set(

@@ -123,6 +123,6 @@ public final class Renderer {
         edited.files(),
         edited.changedFiles(),
         proposal.plan(),
-        PlanDocument.of(pool, proposal.input(), proposal.plan()));
+        proposal.document(pool));
   }
 }

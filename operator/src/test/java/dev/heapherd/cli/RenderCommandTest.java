@@ -1,6 +1,7 @@
 package dev.heapherd.cli;
 
 import static dev.heapherd.cli.PlanInputs.replaceOnce;
+import static dev.heapherd.engine.Units.MIB;
 import static org.assertj.core.api.Assertions.assertThat;
 
 import com.fasterxml.jackson.databind.JsonNode;
@@ -673,6 +674,31 @@ class RenderCommandTest {
     String page = Files.readString(report);
     assertThat(page).startsWith("<!DOCTYPE html>").contains("data-workload=\"warehouse-sync\"");
     assertThat(page).contains("Caution: ");
+  }
+
+  @Test
+  void theReviewPageShowsSidecarMemoryTakenFromTheBudget() throws IOException {
+    Path manifests = example();
+    Path sync = manifests.resolve("warehouse-sync.yaml");
+    // A log shipper beside the JVM in each of the two pods: 2 x 256Mi heapherd never resizes.
+    Files.writeString(
+        sync,
+        Files.readString(sync)
+            + "        - name: log-shipper\n"
+            + "          image: registry.tidewater.example/ops/log-shipper:1.4\n"
+            + "          resources:\n"
+            + "            limits:\n"
+            + "              memory: 256Mi\n");
+    Path report = dir.resolve("review.html");
+
+    PlanRun run = render(POOL, manifests, "--check", "--report", report.toString());
+
+    assertThat(run.exitCode()).as("stderr: %s", run.err()).isEqualTo(Main.EXIT_CHANGES);
+    String page = Files.readString(report);
+    assertThat(page)
+        .contains("<h2>Budget 72Gi,")
+        .contains("<tr><td>S</td>")
+        .contains("data-bytes=\"" + 2 * 256 * MIB + "\"");
   }
 
   @Test
