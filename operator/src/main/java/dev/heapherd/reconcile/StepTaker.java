@@ -12,16 +12,21 @@ import dev.heapherd.rollout.RolloutRecord;
 import dev.heapherd.rollout.RolloutStep;
 import dev.heapherd.rollout.WorkloadState;
 import io.fabric8.kubernetes.api.model.HasMetadata;
+import io.fabric8.kubernetes.client.KubernetesClientException;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
 import java.util.OptionalLong;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
 
 /**
  * Carries out the rollout planner's steps in Apply mode: writes the workload, records an Event,
  * counts it.
  */
 final class StepTaker {
+
+  private static final Logger LOG = LoggerFactory.getLogger(StepTaker.class);
 
   private final RolloutWriter writer;
   private final OperatorMetrics meters;
@@ -33,7 +38,7 @@ final class StepTaker {
 
   /**
    * Takes every step the rollout planner allows now towards the published proposal, in Apply mode
-   * only, and returns them (none in DryRun).
+   * only, and returns those written (none in DryRun).
    *
    * @param metricsHeld why the pool's metrics cannot be trusted now, empty when they can
    */
@@ -65,10 +70,23 @@ final class StepTaker {
             new ArrayList<>(states.values()),
             p == null ? Map.of() : ProposalBuilder.targets(p),
             gates);
+    List<RolloutStep> taken = new ArrayList<>();
     for (RolloutStep step : steps) {
-      take(step, v, spec, selected.get(step.workload()), states.get(step.workload()));
+      try {
+        take(step, v, spec, selected.get(step.workload()), states.get(step.workload()));
+      } catch (KubernetesClientException e) {
+        if (taken.isEmpty()) {
+          // Nothing written yet: the framework retries the whole visit with backoff.
+          throw e;
+        }
+        // Steps already written must reach the status (history, events) in this visit; the
+        // rest are planned again at the next one, which the running rollout brings soon.
+        LOG.warn("pool {}: {} not taken yet: {}", v.namespace(), step.workload(), e.getMessage());
+        break;
+      }
+      taken.add(step);
     }
-    return steps;
+    return taken;
   }
 
   /** Takes {@code step} on workload {@code w}, whose state is {@code state}, and reports it. */
