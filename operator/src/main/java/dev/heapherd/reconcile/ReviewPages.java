@@ -16,7 +16,7 @@ final class ReviewPages {
   /** Where the pages are served. */
   static final String PREFIX = "/pools/";
 
-  private final Map<String, String> pages = new ConcurrentHashMap<>();
+  private final Map<String, PlanDocument> pages = new ConcurrentHashMap<>();
 
   /** The path of a pool's page on the operator's HTTP port. */
   static String path(String namespace, String name) {
@@ -25,12 +25,13 @@ final class ReviewPages {
 
   /** Keeps the page of {@code doc} for its pool, replacing the one before. */
   void put(String namespace, String name, PlanDocument doc) {
-    pages.put(path(namespace, name), PlanPage.render(doc));
+    // Rendered when asked for: every visit replaces the plan, few are ever viewed.
+    pages.put(path(namespace, name), doc);
   }
 
   /** The page served at {@code path}, if a pool has one there. */
   Optional<String> at(String path) {
-    return Optional.ofNullable(pages.get(path));
+    return Optional.ofNullable(pages.get(path)).map(PlanPage::render);
   }
 
   /** Drops the pages of pools not in {@code existing} (their paths), as their meters are. */
