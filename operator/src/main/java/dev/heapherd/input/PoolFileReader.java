@@ -33,6 +33,7 @@ public final class PoolFileReader {
           "heapMaxBytes",
           "youngGcSecondsPerSecond",
           "oldGcSecondsPerSecond",
+          "oldCollectionsPerSecond",
           "promotionBytesPerSecond",
           "youngCapacityBytes",
           "oldCapacityBytes",

@@ -97,6 +97,9 @@ public final class QueryProfiles {
                       series(
                           "__name__=~\"jvm_gc_pause_seconds_sum|jvm_gc_concurrent_phase_time_seconds_sum\"",
                           "action!=" + MINOR))),
+              Signal.OLD_COLLECTIONS_PER_SECOND,
+              List.of(
+                  perPod("sum", "rate(", series("jvm_gc_pause_seconds_count", "action!=" + MINOR))),
               Signal.PROMOTION_BYTES_PER_SECOND,
               List.of(perPod("sum", "rate(", series("jvm_gc_memory_promoted_bytes_total"))),
               Signal.YOUNG_CAPACITY_BYTES,
@@ -168,6 +171,12 @@ public final class QueryProfiles {
                       "sum",
                       "rate(",
                       series("jvm_gc_collection_seconds_sum", "gc=~\"" + OLD_COLLECTORS + "\""))),
+              Signal.OLD_COLLECTIONS_PER_SECOND,
+              List.of(
+                  perPod(
+                      "sum",
+                      "rate(",
+                      series("jvm_gc_collection_seconds_count", "gc=~\"" + OLD_COLLECTORS + "\""))),
               Signal.PROMOTION_BYTES_PER_SECOND,
               List.of(
                   // Bytes the library saw arrive in the old pool across collections: promotion.
@@ -259,6 +268,12 @@ public final class QueryProfiles {
                       "sum",
                       "rate(",
                       series("jvm_gc_duration_seconds_sum", "jvm_gc_action!=" + MINOR))),
+              Signal.OLD_COLLECTIONS_PER_SECOND,
+              List.of(
+                  perPod(
+                      "sum",
+                      "rate(",
+                      series("jvm_gc_duration_seconds_count", "jvm_gc_action!=" + MINOR))),
               Signal.NON_HEAP_BYTES,
               List.of(
                   perPod(

@@ -16,6 +16,11 @@ public enum Signal {
   YOUNG_GC_SECONDS_PER_SECOND("youngGcSecondsPerSecond"),
   /** GC seconds per second of collections whose frequency depends on heap size (old, full). */
   OLD_GC_SECONDS_PER_SECOND("oldGcSecondsPerSecond"),
+  /**
+   * Old-generation and full collections per second (their pauses): with the old GC time, the mean
+   * pause under Serial and Parallel.
+   */
+  OLD_COLLECTIONS_PER_SECOND("oldCollectionsPerSecond", false),
   /** Bytes promoted into the old generation per second. */
   PROMOTION_BYTES_PER_SECOND("promotionBytesPerSecond", false),
   /** Young-generation capacity (eden and survivor pools, committed), averaged over the window. */

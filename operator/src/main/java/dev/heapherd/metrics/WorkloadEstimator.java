@@ -141,6 +141,21 @@ public final class WorkloadEstimator {
     boolean liveFallback = pods.stream().anyMatch(PodSignals::liveFromFallback);
     List<String> notes = new ArrayList<>();
     notes.add(gcTimeSource);
+    OptionalDouble promotion = mean(present(pods, Signal.PROMOTION_BYTES_PER_SECOND));
+    OptionalLong oldCapacity =
+        whole(present(pods, Signal.OLD_CAPACITY_BYTES), WorkloadEstimator::median);
+    Optional<OldCollectionPace> pace =
+        OldCollectionPace.of(
+            collector.get(),
+            old,
+            mean(present(pods, Signal.OLD_COLLECTIONS_PER_SECOND)).orElse(0),
+            promotion.orElse(0),
+            oldCapacity.orElse(0),
+            live);
+    if (pace.isPresent()) {
+      old = pace.get().secondsPerSecond();
+      notes.add(pace.get().note());
+    }
     if (liveFallback) {
       notes.add(
           "live bytes from the old pool's lowest occupancy: no after-GC figure in the window");
@@ -152,10 +167,6 @@ public final class WorkloadEstimator {
         liveFallback && old == 0
             ? "Low"
             : !liveFallback && old > 0 && samples >= HIGH_CONFIDENCE_SAMPLES ? "High" : "Medium";
-    OptionalDouble promotion =
-        present(pods, Signal.PROMOTION_BYTES_PER_SECOND)
-            .map(v -> OptionalDouble.of(mean(v)))
-            .orElse(OptionalDouble.empty());
     return new Measured(
         new Snapshot.Workload(
             name,
@@ -173,13 +184,11 @@ public final class WorkloadEstimator {
             new Snapshot.Evidence(samples, confidence, notes),
             new Snapshot.Layout(
                 whole(present(pods, Signal.YOUNG_CAPACITY_BYTES), WorkloadEstimator::mean),
-                whole(present(pods, Signal.OLD_CAPACITY_BYTES), WorkloadEstimator::median),
+                oldCapacity,
                 whole(
                     present(pods, Signal.STARTUP_LIVE_BYTES),
                     sorted -> Math.max(live, sorted[sorted.length - 1])),
-                present(pods, Signal.ALLOCATION_BYTES_PER_SECOND)
-                    .map(v -> OptionalDouble.of(mean(v)))
-                    .orElse(OptionalDouble.empty()),
+                mean(present(pods, Signal.ALLOCATION_BYTES_PER_SECOND)),
                 0,
                 List.of())));
   }
@@ -189,6 +198,10 @@ public final class WorkloadEstimator {
     return pods.stream().allMatch(p -> p.value(signal).isPresent())
         ? Optional.of(values(pods, signal))
         : Optional.empty();
+  }
+
+  private static OptionalDouble mean(Optional<double[]> values) {
+    return values.map(v -> OptionalDouble.of(mean(v))).orElse(OptionalDouble.empty());
   }
 
   private static OptionalLong whole(Optional<double[]> values, ToDoubleFunction<double[]> summary) {

@@ -50,6 +50,28 @@ class WorkloadEstimatorTest {
   }
 
   @Test
+  void parallelsOldTimeComesFromItsPaceAndSaysSo() {
+    PodSignals base = pod("a", 1e8, 450e6, Set.of("PS Scavenge", "PS MarkSweep"));
+    Map<Signal, Double> v = new EnumMap<>(base.values());
+    // 0.002 s/s in 0.01 collections per second: a 200 ms pause. 1 MB/s into 200 MB of room: one
+    // collection every 200 s, so 0.001 s/s, half what the window counted.
+    v.put(Signal.OLD_COLLECTIONS_PER_SECOND, 0.01);
+    v.put(Signal.PROMOTION_BYTES_PER_SECOND, 1e6);
+    v.put(Signal.OLD_CAPACITY_BYTES, 3e8);
+    var estimate =
+        WorkloadEstimator.estimate(
+            "ledger",
+            "Deployment",
+            List.of(new PodSignals("shop", "a", v, false, base.collectorNames(), 0)),
+            GC_SOURCE);
+    var w = ((WorkloadEstimator.Measured) estimate).workload();
+    assertThat(w.gcSecondsPerSecond())
+        .isEqualTo(0.011, org.assertj.core.api.Assertions.within(1e-12));
+    assertThat(w.youngGcSecondsPerSecond()).isEqualTo(0.01);
+    assertThat(w.evidence().notes()).anyMatch(n -> n.contains("from its pace"));
+  }
+
+  @Test
   void holdsOnMixedHeapsMixedCollectorsAndTooFewSamples() {
     assertThat(
             WorkloadEstimator.estimate(
