@@ -185,6 +185,17 @@ def section(summaries):
                     for i, st in enumerate(steps))
                 + "."
             )
+        checks = [c for step in s.get("snapshotChecks", []) for c in step["checks"]]
+        if checks:
+            off = [c for c in checks if not c["agrees"]]
+            out.append(
+                f"Snapshot against the lab's own figures (Prometheus over the window vs the "
+                f"collector MXBeans over the measured phase): {len(checks) - len(off)} of "
+                f"{len(checks)} workload measurements agree"
+                + ("." if not off else ": " + ", ".join(
+                    f"{c['workload']} {c['snapshotGcSecondsPerSecond']:.4f} vs "
+                    f"{c['labGcSecondsPerSecond']:.4f}" for c in off) + " did not.")
+            )
         out += ["", f"![{c} curves](lab/{c}-curves.png)", ""]
     out += ["![pool GC time per split](lab/pool.png)", "", END]
     return "\n".join(out)
