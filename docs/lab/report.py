@@ -185,6 +185,10 @@ def section(summaries):
                     for i, st in enumerate(steps))
                 + "."
             )
+        if "measureSeconds" in s:
+            out.append(
+                f"Each run: {s['warmupSeconds']} s of warm-up, then {s['measureSeconds']} s measured "
+                f"(the snapshots' window too).")
         checks = [c for step in s.get("snapshotChecks", []) for c in step["checks"]]
         if checks:
             off = [c for c in checks if not c["agrees"]]

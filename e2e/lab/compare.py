@@ -314,6 +314,8 @@ def lab(collector, args, work):
         "collector": collector,
         "todayMib": TODAY_MIB,
         "budgetBytes": budget,
+        "warmupSeconds": args.warmup_seconds,
+        "measureSeconds": args.measure_seconds,
         "todayPoolGcSecondsPerSecond": pool_gc(today),
         "poolGcSecondsPerSecond": measured,
         "splitsMib": {name: heaps for name, heaps in splits},
