@@ -2,7 +2,8 @@
 """Writes the figures of docs/model.md (PNG) from the project's own outputs.
 
 - curve-parts.png: the codec service's curve from the Parallel lab run (docs/lab/Parallel.json),
-  split into its young part a/(youngShare*H) and its old part k/(oldShare*H - L - E0).
+  split into its heap-independent part Y, its young part a/(youngShare*H) and its old part
+  k/(oldShare*H - L - E0).
 - equal-marginal-cost.png: the worked example's pool (docs/examples/worked-*.yaml, planned by
   the built jar): each workload's marginal GC cost per byte of heap, with the pool's one level
   where every proposed heap sits.
@@ -30,13 +31,13 @@ JAR = ROOT / "operator" / "target" / "heapherd.jar"
 
 
 def parts(entry, heap_bytes):
-    """The young and old parts of a plan entry's curve at heap_bytes, GC seconds per second."""
+    """The heap-independent, young and old parts of a plan entry's curve at heap_bytes (GC s/s)."""
     young = entry["young"]
     young_part = (young["constant"] / (young["share"]["value"] * heap_bytes)
                   if young["constant"] else 0.0)
     headroom = entry["oldShare"]["value"] * heap_bytes - entry["liveBytes"] - entry["offsetBytes"]
     old_part = entry["gcConstant"] / headroom if entry["gcConstant"] and headroom > 0 else 0.0
-    return young_part, old_part
+    return entry["heapIndependentGcSecondsPerSecond"], young_part, old_part
 
 
 def curve_parts():
@@ -45,11 +46,13 @@ def curve_parts():
     low = (entry["liveBytes"] + entry["offsetBytes"]) / entry["oldShare"]["value"] * 1.15
     high = entry["heapBytes"] * 1.6
     xs = [low + (high - low) * i / 200 for i in range(201)]
-    young = [parts(entry, x)[0] for x in xs]
-    old = [parts(entry, x)[1] for x in xs]
+    fixed = [parts(entry, x)[0] for x in xs]
+    young = [parts(entry, x)[1] for x in xs]
+    old = [parts(entry, x)[2] for x in xs]
     fig, ax = plt.subplots(figsize=(6, 3.6))
     mib = [x / MIB for x in xs]
-    ax.plot(mib, [y + o for y, o in zip(young, old)], color="black", label="total")
+    ax.plot(mib, [f + y + o for f, y, o in zip(fixed, young, old)], color="black", label="total")
+    ax.plot(mib, fixed, color="grey", linestyle="-", linewidth=0.8, label="heap-independent part Y")
     ax.plot(mib, young, color="black", linestyle="--", label="young part a/(youngShare H)")
     ax.plot(mib, old, color="black", linestyle=":", label="old part k/(oldShare H - L - E0)")
     ax.axvline(entry["heapBytes"] / MIB, color="grey", linestyle="-.", label="proposal")
