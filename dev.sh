@@ -1,8 +1,9 @@
 #!/usr/bin/env bash
 # Development entry point: `./dev.sh demo` plans the bundled example, `./dev.sh test` runs every
 # test (what CI runs), `./dev.sh bench` prints the engine's benchmark figures, `./dev.sh crds`
-# copies the CRD the build generated from the Java types into crds/, `./dev.sh lab` runs the
-# benchmark lab of real applications (tens of minutes) and writes docs/benchmarks.md's lab section.
+# copies the CRD the build generated from the Java types into crds/, `./dev.sh image` builds the
+# operator's image as a tarball (no Docker engine needed), `./dev.sh lab` runs the benchmark lab of
+# real applications (tens of minutes) and writes docs/benchmarks.md's lab section.
 set -euo pipefail
 cd "$(dirname "$0")"
 
@@ -41,7 +42,7 @@ plot_venv() {
 
 case "${1:-}" in
   demo)
-    mvn_batch -q -DskipTests -Dspotless.check.skip=true package
+    mvn_batch -q -DskipTests -Dspotless.check.skip=true -Dimage.skip=true package
     java -jar operator/target/heapherd.jar plan \
       --pool docs/examples/pool.yaml --snapshot docs/examples/snapshot.yaml
     ;;
@@ -53,6 +54,13 @@ case "${1:-}" in
     export HEAPHERD_CONTROL_PLANE_BIN
     mvn_batch verify
     ;;
+  image)
+    # A jlink'd runtime and the operator's classes, assembled by Jib into an OCI image tarball.
+    mvn_batch -q -pl operator -am -DskipTests -Dspotless.check.skip=true package
+    name="$(sed -n 's:.*<image.name>\(.*\)</image.name>.*:\1:p' operator/pom.xml)"
+    echo "image $name written to operator/target/heapherd-image.tar"
+    echo "load it into your registry, e.g. skopeo copy docker-archive:operator/target/heapherd-image.tar docker://registry.example.com/heapherd:${name##*:}"
+    ;;
   crds)
     mvn_batch -q -pl operator -am -DskipTests -Dspotless.check.skip=true process-classes
     cp operator/target/classes/META-INF/fabric8/heappools.heapherd.dev-v1.yml crds/
@@ -61,20 +69,20 @@ case "${1:-}" in
     ;;
   lab)
     need_packages
-    mvn_batch -q -DskipTests -Dspotless.check.skip=true package
+    mvn_batch -q -DskipTests -Dspotless.check.skip=true -Dimage.skip=true package
     shift
     "$(plot_venv)/bin/python" e2e/lab/compare.py "$@"
     ;;
   plots)
     # The figures of docs/model.md, from the lab's results and the worked example.
-    mvn_batch -q -DskipTests -Dspotless.check.skip=true package
+    mvn_batch -q -DskipTests -Dspotless.check.skip=true -Dimage.skip=true package
     "$(plot_venv)/bin/python" docs/figures/model.py
     ;;
   bench)
     mvn_batch -q -Pbench -pl operator -am -DskipTests -Dspotless.check.skip=true verify
     ;;
   *)
-    echo "usage: ./dev.sh demo|test|bench|crds|lab|plots" >&2
+    echo "usage: ./dev.sh demo|test|bench|crds|image|lab|plots" >&2
     exit 2
     ;;
 esac

@@ -35,10 +35,10 @@ public final class OperatorRuntime implements AutoCloseable {
    * Lease timings: the client library's usual 15 s lease, renewed within 10 s, retried every 2 s
    * (the defaults of the operator SDK's leader election).
    */
-  private static final Duration LEASE_DURATION = Duration.ofSeconds(15);
+  public static final Duration LEASE_DURATION = Duration.ofSeconds(15);
 
   private static final Duration RENEW_DEADLINE = Duration.ofSeconds(10);
-  private static final Duration RETRY_PERIOD = Duration.ofSeconds(2);
+  public static final Duration RETRY_PERIOD = Duration.ofSeconds(2);
 
   /**
    * How long a stop waits for running reconciles: our choice, well inside a pod's default 30 s

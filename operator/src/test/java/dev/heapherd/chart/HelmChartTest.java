@@ -15,10 +15,13 @@ import io.fabric8.kubernetes.api.model.rbac.PolicyRule;
 import io.fabric8.kubernetes.api.model.rbac.Role;
 import io.fabric8.kubernetes.api.model.rbac.RoleBinding;
 import io.fabric8.kubernetes.client.utils.Serialization;
+import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
+import java.util.regex.Matcher;
+import java.util.regex.Pattern;
 import org.junit.jupiter.api.Test;
 
 /** The chart lints cleanly and renders what an admin expects, through helm's own library. */
@@ -26,10 +29,25 @@ class HelmChartTest {
 
   static final Path CHART = Chart.DIR;
 
+  /** The operator module's build, which names the image `./dev.sh image` writes. */
+  private static final Path POM = Path.of("pom.xml");
+
   @Test
   void lintsStrictlyWithoutFindings() {
     var result = new Helm(CHART).lint().strict().call();
     assertThat(result.isFailed()).as(String.join("\n", result.getMessages())).isFalse();
+  }
+
+  @Test
+  void defaultImageIsTheOneTheBuildMakes() throws Exception {
+    Matcher built =
+        Pattern.compile("<image.name>([^<]+)</image.name>").matcher(Files.readString(POM));
+    assertThat(built.find()).as("operator/pom.xml names the image it builds").isTrue();
+
+    Deployment d = only(render("http://prometheus.monitoring:9090"), Deployment.class);
+
+    assertThat(d.getSpec().getTemplate().getSpec().getContainers().get(0).getImage())
+        .isEqualTo(built.group(1));
   }
 
   @Test

@@ -10,7 +10,10 @@ import java.time.Duration;
 import java.util.List;
 import java.util.concurrent.TimeUnit;
 
-/** Our node agent (e2e/node-agent) as a process: it binds pods and runs them as local JVMs. */
+/**
+ * Our node agent (e2e/node-agent) as a process: it binds pods and runs them as local JVMs, the
+ * operator's from its image tarball.
+ */
 final class NodeAgent implements AutoCloseable {
 
   static final String NODE = "e2e-node";
@@ -29,6 +32,11 @@ final class NodeAgent implements AutoCloseable {
   /** Starts the agent on the cluster of {@code kubeconfig}; returns once its Node is Ready. */
   static NodeAgent start(Path kubeconfig, Path dir, KubernetesClient client) throws IOException {
     Files.createDirectories(dir);
+    Path image = Path.of(property("heapherd.operator.image"));
+    if (!Files.isRegularFile(image)) {
+      throw new IllegalStateException(
+          "the operator's image " + image + " is missing: mvn package (./dev.sh image) builds it");
+    }
     Path targets = dir.resolve("targets.json");
     Process p =
         new ProcessBuilder(
@@ -41,7 +49,8 @@ final class NodeAgent implements AutoCloseable {
                     "--state-dir=" + dir,
                     "--file-sd=" + targets,
                     "--workload-jar=" + property("heapherd.workload.jar"),
-                    "--operator-jar=" + Path.of("target/heapherd.jar").toAbsolutePath(),
+                    // The operator runs from the image the build made, as a cluster would run it.
+                    "--operator-image=" + image,
                     "--max-back-off-seconds=5"))
             .redirectErrorStream(true)
             .redirectOutput(dir.resolve("agent.log").toFile())

@@ -115,7 +115,7 @@ final class ContainerWorker {
 
   /** Whether nothing runs and nothing will be started again. */
   boolean idle() {
-    return run == null && (finished || !(launch instanceof ContainerLaunch.Jar));
+    return run == null && (finished || !(launch instanceof ContainerLaunch.Startable));
   }
 
   /**
@@ -132,9 +132,9 @@ final class ContainerWorker {
     }
     if (run == null
         && !finished
-        && launch instanceof ContainerLaunch.Jar jar
+        && launch instanceof ContainerLaunch.Startable startable
         && (restartAt == null || !now.isBefore(restartAt))) {
-      start(jar, now);
+      start(startable, now);
     }
     if (run != null) {
       run.readiness().checkIfDue(now, context.probes(), context.wake());
@@ -152,7 +152,8 @@ final class ContainerWorker {
         new ContainerStatusBuilder()
             .withName(spec.getName())
             .withImage(spec.getImage())
-            .withImageID(launch instanceof ContainerLaunch.Jar jar ? jar.imageId() : "")
+            .withImageID(
+                launch instanceof ContainerLaunch.Startable startable ? startable.imageId() : "")
             .withRestartCount(restartCount)
             .withStarted(run != null)
             .withReady(run != null && run.readiness().ready());
@@ -212,10 +213,22 @@ final class ContainerWorker {
         .build();
   }
 
-  private void start(ContainerLaunch.Jar jar, Instant now) {
+  private void start(ContainerLaunch.Startable startable, Instant now) {
     int count = everStarted ? restartCount + 1 : restartCount;
     Path log = podDir.resolve(spec.getName() + "." + count + ".log");
-    List<String> command = jar.command(context.java(), port);
+    List<String> command;
+    if (startable instanceof ContainerLaunch.Image image) {
+      Path rootfs = podDir.resolve(spec.getName() + ".rootfs");
+      try {
+        RootFilesystem.prepare(image, rootfs);
+      } catch (IOException e) {
+        failedToStart(now, "cannot prepare the root folder " + rootfs + ": " + e.getMessage());
+        return;
+      }
+      command = image.command(rootfs, port);
+    } else {
+      command = ((ContainerLaunch.Jar) startable).command(context.java(), port);
+    }
     ProcessBuilder builder =
         new ProcessBuilder(command)
             .directory(podDir.toFile())
@@ -223,7 +236,7 @@ final class ContainerWorker {
             .redirectOutput(ProcessBuilder.Redirect.appendTo(log.toFile()))
             .redirectInput(ProcessBuilder.Redirect.from(new File("/dev/null")));
     builder.environment().clear();
-    builder.environment().putAll(jar.environment());
+    builder.environment().putAll(startable.environment());
     Process process;
     MemoryGuard guard;
     try {
@@ -235,8 +248,8 @@ final class ContainerWorker {
     context.started().add(process.toHandle());
     try {
       guard =
-          jar.memoryLimitBytes().isPresent()
-              ? context.memory().guard(process, jar.memoryLimitBytes().getAsLong(), label())
+          startable.memoryLimitBytes().isPresent()
+              ? context.memory().guard(process, startable.memoryLimitBytes().getAsLong(), label())
               : MemoryGuard.NONE;
     } catch (IOException e) {
       process.destroyForcibly();
@@ -247,7 +260,8 @@ final class ContainerWorker {
     everStarted = true;
     startError = null;
     restartAt = null;
-    Readiness readiness = Readiness.of(spec, port, jar.image().readyPath(), context.http(), now);
+    Readiness readiness =
+        Readiness.of(spec, port, startable.image().readyPath(), context.http(), now);
     run = new Run(process, now, guard, readiness, log);
     process.onExit().thenRun(context.wake());
     LOG.info(
@@ -255,9 +269,9 @@ final class ContainerWorker {
         label(),
         process.pid(),
         port.map(p -> " on port " + p).orElse(""),
-        jar.memoryLimitBytes().isPresent()
+        startable.memoryLimitBytes().isPresent()
             ? ", memory limit "
-                + jar.memoryLimitBytes().getAsLong()
+                + startable.memoryLimitBytes().getAsLong()
                 + " bytes by "
                 + context.memory().name()
             : "",

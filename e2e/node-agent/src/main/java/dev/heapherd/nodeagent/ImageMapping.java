@@ -5,12 +5,14 @@ import java.util.Optional;
 
 /**
  * One row of the image table: containers whose image repository ends in {@code suffix} run {@code
- * java -jar jar}. The port the agent picks for the container reaches the process through {@code
- * portArgument} (appended after the container's args, {@value #PORT_PLACEHOLDER} replaced), and
- * without a readiness probe the container is ready once {@code readyPath} answers 200.
+ * file}, either a jar ({@code java -jar file}) or an image tarball ({@code .tar}, see {@link
+ * ImageArchive}) whose entrypoint runs in the image's own root folder. The port the agent picks for
+ * the container reaches the process through {@code portArgument} (appended after the container's
+ * args, {@value #PORT_PLACEHOLDER} replaced), and without a readiness probe the container is ready
+ * once {@code readyPath} answers 200.
  */
 record ImageMapping(
-    String suffix, Path jar, Optional<String> portArgument, Optional<String> readyPath) {
+    String suffix, Path file, Optional<String> portArgument, Optional<String> readyPath) {
 
   /** Stands for the container's port in a port argument. */
   static final String PORT_PLACEHOLDER = "{port}";
@@ -50,17 +52,25 @@ record ImageMapping(
         WORKLOAD_SUFFIX, jar, Optional.of("--port=" + PORT_PLACEHOLDER), Optional.of("/ready"));
   }
 
-  /** The operator's jar: serves /metrics and /readyz on {@code --http-address}. */
-  static ImageMapping operator(Path jar) {
+  /** The operator's jar or image: serves /metrics and /readyz on {@code --http-address}. */
+  static ImageMapping operator(Path file) {
     return new ImageMapping(
         OPERATOR_SUFFIX,
-        jar,
+        file,
         Optional.of("--http-address=127.0.0.1:" + PORT_PLACEHOLDER),
         Optional.of("/readyz"));
   }
 
+  /** Image tarballs are told from jars by their name, as {@code docker save -o} names them. */
+  static final String ARCHIVE_EXTENSION = ".tar";
+
+  /** Whether {@code file} is an image tarball rather than a jar. */
+  boolean archive() {
+    return file.getFileName().toString().endsWith(ARCHIVE_EXTENSION);
+  }
+
   /**
-   * Reads {@code SUFFIX=JAR[,port-arg=ARG][,ready-path=PATH]}, the form of {@code --image}; jar
+   * Reads {@code SUFFIX=FILE[,port-arg=ARG][,ready-path=PATH]}, the form of {@code --image}; file
    * paths cannot hold commas.
    */
   static ImageMapping parse(String text) {
@@ -68,7 +78,7 @@ record ImageMapping(
     int equals = parts[0].indexOf('=');
     if (equals <= 0 || equals == parts[0].length() - 1) {
       throw new IllegalArgumentException(
-          "--image must be SUFFIX=JAR[,port-arg=ARG][,ready-path=PATH], got '" + text + "'");
+          "--image must be SUFFIX=FILE[,port-arg=ARG][,ready-path=PATH], got '" + text + "'");
     }
     Optional<String> portArgument = Optional.empty();
     Optional<String> readyPath = Optional.empty();

@@ -67,11 +67,19 @@ public final class Main implements Callable<Integer> {
   Path operatorJar;
 
   @Option(
-      names = "--image",
-      paramLabel = "SUFFIX=JAR[,port-arg=ARG][,ready-path=PATH]",
+      names = "--operator-image",
       description =
-          "Jar run for images whose repository ends in SUFFIX (repeatable). ARG, holding {port},"
-              + " tells the process its port; PATH answers 200 once it is ready.")
+          "Image tarball (.tar, docker-archive layout) run for images whose repository ends in"
+              + " heapherd, in the image's own root folder (needs the agent to run as root).")
+  Path operatorImage;
+
+  @Option(
+      names = "--image",
+      paramLabel = "SUFFIX=FILE[,port-arg=ARG][,ready-path=PATH]",
+      description =
+          "Jar, or image tarball (.tar), run for images whose repository ends in SUFFIX"
+              + " (repeatable). ARG, holding {port}, tells the process its port; PATH answers 200"
+              + " once it is ready.")
   List<String> images = new ArrayList<>();
 
   @Option(
@@ -183,15 +191,25 @@ public final class Main implements Callable<Integer> {
     if (workloadJar != null) {
       mappings.add(ImageMapping.workload(workloadJar));
     }
+    if (operatorJar != null && operatorImage != null) {
+      throw new IllegalArgumentException("give --operator-jar or --operator-image, not both");
+    }
     if (operatorJar != null) {
       mappings.add(ImageMapping.operator(operatorJar));
+    }
+    if (operatorImage != null) {
+      if (!operatorImage.getFileName().toString().endsWith(ImageMapping.ARCHIVE_EXTENSION)) {
+        throw new IllegalArgumentException(
+            "--operator-image must name an image tarball ending in .tar, got " + operatorImage);
+      }
+      mappings.add(ImageMapping.operator(operatorImage));
     }
     for (String image : images) {
       mappings.add(ImageMapping.parse(image));
     }
     if (mappings.isEmpty()) {
       throw new IllegalArgumentException(
-          "give at least one of --workload-jar, --operator-jar or --image");
+          "give at least one of --workload-jar, --operator-jar, --operator-image or --image");
     }
     if (maxPods < 1) {
       throw new IllegalArgumentException("--max-pods must be at least 1, got " + maxPods);

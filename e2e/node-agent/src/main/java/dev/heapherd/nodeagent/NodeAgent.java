@@ -115,7 +115,7 @@ final class NodeAgent implements AutoCloseable {
    * settings and KubernetesClientException when the API server cannot be used.
    */
   static NodeAgent start(AgentSettings settings) throws IOException {
-    ImageTable images = ImageTable.of(settings.images());
+    ImageTable images = ImageTable.of(settings.images(), settings.stateDir().resolve("images"));
     Files.createDirectories(settings.stateDir().resolve("pods"));
     Config config;
     try {

@@ -72,24 +72,30 @@ final class PodWorker {
       throw new UncheckedIOException("cannot create " + dir, e);
     }
     RestartPolicy policy = RestartPolicy.of(pod.getSpec().getRestartPolicy());
+    Optional<ServiceAccountCredentials.Token> token = Optional.empty();
     Optional<Path> kubeconfig = Optional.empty();
     String credentialError = null;
     try {
-      kubeconfig = context.credentials().write(pod, dir);
+      token = context.credentials().request(pod);
+      if (token.isPresent()) {
+        kubeconfig = Optional.of(ServiceAccountCredentials.writeKubeconfig(token.get(), dir));
+      }
     } catch (IOException e) {
       credentialError = e.getMessage();
     }
     for (Container container : pod.getSpec().getContainers()) {
       ContainerLaunch launch =
           ContainerLaunch.plan(pod, container, context.images(), context.nodeName());
-      if (launch instanceof ContainerLaunch.Jar jar && kubeconfig.isPresent()) {
+      if (launch instanceof ContainerLaunch.Startable && credentialError != null) {
+        launch = new ContainerLaunch.NotRunnable(ContainerLaunch.CONFIG_ERROR, credentialError);
+      } else if (launch instanceof ContainerLaunch.Jar jar && kubeconfig.isPresent()) {
         launch =
             jar.withVariable(ServiceAccountCredentials.KUBECONFIG, kubeconfig.get().toString());
-      } else if (launch instanceof ContainerLaunch.Jar && credentialError != null) {
-        launch = new ContainerLaunch.NotRunnable(ContainerLaunch.CONFIG_ERROR, credentialError);
+      } else if (launch instanceof ContainerLaunch.Image image && token.isPresent()) {
+        launch = image.withToken(token.get());
       }
       Optional<Integer> port =
-          launch instanceof ContainerLaunch.Jar jar && jar.needsPort()
+          launch instanceof ContainerLaunch.Startable startable && startable.needsPort()
               ? Optional.of(ports.allocate())
               : Optional.empty();
       if (launch instanceof ContainerLaunch.NotRunnable notRunnable) {

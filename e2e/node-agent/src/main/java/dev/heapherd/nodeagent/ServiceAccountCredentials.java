@@ -6,6 +6,7 @@ import io.fabric8.kubernetes.api.model.authentication.TokenRequestBuilder;
 import io.fabric8.kubernetes.client.KubernetesClient;
 import io.fabric8.kubernetes.client.KubernetesClientException;
 import java.io.IOException;
+import java.net.URI;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -16,7 +17,8 @@ import java.util.Optional;
 /**
  * Gives a pod's processes the API credentials of its service account, as the kubelet's projected
  * token volume does: a token bound to the pod from the TokenRequest API, written into a kubeconfig
- * in the pod's folder that the process finds through {@code KUBECONFIG}. Processes then act with
+ * in the pod's folder that a jar finds through {@code KUBECONFIG}, or the token files an image
+ * finds where the pod mounts its token (see {@link RootFilesystem}). Processes then act with
  * exactly the rights RBAC grants that service account.
  */
 final class ServiceAccountCredentials {
@@ -37,11 +39,30 @@ final class ServiceAccountCredentials {
     this.client = client;
   }
 
+  /** A token bound to a pod, and what a client needs besides to reach the API server with it. */
+  record Token(
+      String token, Optional<String> caBase64, String masterUrl, String namespace, String account) {
+
+    /** The API server's host, as in-cluster clients read it from KUBERNETES_SERVICE_HOST. */
+    String apiHost() {
+      return URI.create(masterUrl).getHost();
+    }
+
+    /** The API server's port (443 when the URL names none). */
+    int apiPort() {
+      int port = URI.create(masterUrl).getPort();
+      return port < 0 ? HTTPS_PORT : port;
+    }
+  }
+
+  /** The port https uses when a URL names none (RFC 9110). */
+  private static final int HTTPS_PORT = 443;
+
   /**
-   * Writes the pod's kubeconfig into {@code podDir}; empty when the pod opts out of a token ({@code
+   * A token for the pod's service account; empty when the pod opts out of one ({@code
    * automountServiceAccountToken: false}).
    */
-  Optional<Path> write(Pod pod, Path podDir) throws IOException {
+  Optional<Token> request(Pod pod) throws IOException {
     if (Boolean.FALSE.equals(pod.getSpec().getAutomountServiceAccountToken())) {
       return Optional.empty();
     }
@@ -76,6 +97,17 @@ final class ServiceAccountCredentials {
     if (ca == null && config.getCaCertFile() != null) {
       ca = Base64.getEncoder().encodeToString(Files.readAllBytes(Path.of(config.getCaCertFile())));
     }
+    return Optional.of(
+        new Token(
+            token,
+            Optional.ofNullable(ca),
+            config.getMasterUrl(),
+            pod.getMetadata().getNamespace(),
+            account));
+  }
+
+  /** Writes a kubeconfig holding {@code token} into {@code podDir}, for jars to find by path. */
+  static Path writeKubeconfig(Token token, Path podDir) throws IOException {
     String kubeconfig =
         String.join(
             "\n",
@@ -84,25 +116,25 @@ final class ServiceAccountCredentials {
             "clusters:",
             "- name: cluster",
             "  cluster:",
-            "    server: " + config.getMasterUrl(),
+            "    server: " + token.masterUrl(),
             // Without a CA of its own the client trusts the system's CAs, as the agent does.
-            ca == null ? "" : "    certificate-authority-data: " + ca,
+            token.caBase64().map(ca -> "    certificate-authority-data: " + ca).orElse(""),
             "users:",
-            "- name: " + account,
+            "- name: " + token.account(),
             "  user:",
-            "    token: " + token,
+            "    token: " + token.token(),
             "contexts:",
             "- name: pod",
             "  context:",
             "    cluster: cluster",
-            "    user: " + account,
-            "    namespace: " + pod.getMetadata().getNamespace(),
+            "    user: " + token.account(),
+            "    namespace: " + token.namespace(),
             "current-context: pod",
             "");
     Path file = podDir.resolve("kubeconfig");
     Files.writeString(file, kubeconfig, StandardCharsets.UTF_8);
     // Only the agent's user may read a credential, as with a projected token's default mode.
     Files.setPosixFilePermissions(file, PosixFilePermissions.fromString("rw-------"));
-    return Optional.of(file);
+    return file;
   }
 }

@@ -25,7 +25,7 @@ class ContainerLaunchTest {
   @BeforeEach
   void table() throws IOException {
     jar = Files.writeString(dir.resolve("workload.jar"), "not really a jar");
-    images = ImageTable.of(List.of(ImageMapping.workload(jar)));
+    images = ImageTable.of(List.of(ImageMapping.workload(jar)), dir.resolve("images"));
   }
 
   @Test
@@ -81,7 +81,7 @@ class ContainerLaunchTest {
         .isEqualTo(
             new ContainerLaunch.NotRunnable(
                 "ImageNotRunnable",
-                "no jar is mapped to image busybox:1.36 on this node (mapped repository suffixes:"
+                "nothing is mapped to image busybox:1.36 on this node (mapped repository suffixes:"
                     + " synthetic-workload)"));
   }
 

@@ -36,7 +36,7 @@ class ImageMappingTest {
         ImageMapping.parse(
             "team/app=/opt/app.jar,port-arg=--listen=127.0.0.1:{port},ready-path=/up");
     assertThat(mapping.suffix()).isEqualTo("team/app");
-    assertThat(mapping.jar()).isEqualTo(Path.of("/opt/app.jar"));
+    assertThat(mapping.file()).isEqualTo(Path.of("/opt/app.jar"));
     assertThat(mapping.portArgument(8080)).contains("--listen=127.0.0.1:8080");
     assertThat(mapping.readyPath()).contains("/up");
     assertThat(ImageMapping.parse("app=/opt/app.jar").portArgument()).isEqualTo(Optional.empty());
@@ -45,7 +45,7 @@ class ImageMappingTest {
   @Test
   void rejectsMalformedMappingsInOneLine() {
     assertThatThrownBy(() -> ImageMapping.parse("app.jar"))
-        .hasMessage("--image must be SUFFIX=JAR[,port-arg=ARG][,ready-path=PATH], got 'app.jar'");
+        .hasMessage("--image must be SUFFIX=FILE[,port-arg=ARG][,ready-path=PATH], got 'app.jar'");
     assertThatThrownBy(() -> ImageMapping.parse("app=/a.jar,port-arg=--port"))
         .hasMessage("port-arg for 'app' must contain {port}, got '--port'");
     assertThatThrownBy(() -> ImageMapping.parse("app=/a.jar,ready=/x"))

@@ -71,7 +71,8 @@ class MainTest {
             "2 node-agent: --node-name must be lower-case letters, digits, '-' and '.', got"
                 + " 'Node_1'");
     assertThat(run(common("node-1")))
-        .isEqualTo("2 node-agent: give at least one of --workload-jar, --operator-jar or --image");
+        .isEqualTo(
+            "2 node-agent: give at least one of --workload-jar, --operator-jar, --operator-image or --image");
     assertThat(run(common("node-1", "--workload-jar", jar.toString(), "--memory", "lots")))
         .isEqualTo(
             "2 node-agent: --memory must be a Kubernetes quantity such as 2, 500m or 8Gi, got"

@@ -305,7 +305,7 @@ class NodeAgentIT {
               ContainerState state = containerStatus(pod).getState();
               assertThat(state.getWaiting().getReason()).isEqualTo("ImageNotRunnable");
               assertThat(state.getWaiting().getMessage())
-                  .startsWith("no jar is mapped to image busybox:1.36");
+                  .startsWith("nothing is mapped to image busybox:1.36");
             });
   }
 
