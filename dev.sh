@@ -3,7 +3,7 @@
 # test (what CI runs), `./dev.sh bench` prints the engine's benchmark figures, `./dev.sh crds`
 # copies the CRD the build generated from the Java types into crds/, `./dev.sh image` builds the
 # operator's image as a tarball (no Docker engine needed), `./dev.sh lab` runs the benchmark lab of
-# real applications (tens of minutes) and writes docs/benchmarks.md's lab section.
+# real applications (about an hour and a quarter) and writes docs/benchmarks.md's lab section.
 set -euo pipefail
 cd "$(dirname "$0")"
 
