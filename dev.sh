@@ -79,7 +79,7 @@ case "${1:-}" in
     "$(plot_venv)/bin/python" docs/figures/model.py
     ;;
   bench)
-    mvn_batch -q -Pbench -pl operator -am -DskipTests -Dspotless.check.skip=true verify
+    mvn_batch -q -Pbench -pl operator -am -DskipTests -Dspotless.check.skip=true -Dimage.skip=true verify
     ;;
   *)
     echo "usage: ./dev.sh demo|test|bench|crds|image|lab|plots" >&2
