@@ -5,6 +5,7 @@ import java.util.List;
 import java.util.concurrent.CompletableFuture;
 import java.util.concurrent.CompletionException;
 import java.util.function.IntConsumer;
+import java.util.function.Supplier;
 import java.util.stream.IntStream;
 
 /**
@@ -96,18 +97,17 @@ public final class Allocator {
     boolean feasible;
     double level;
     // The comparison rules get the same memory the proposal may use (all of it when feasible).
-    // Under a budget that is known before the proposal is solved, so a large pool solves the linear
-    // rule on another core meanwhile.
-    double comparisonTarget = 0;
-    CompletableFuture<Double> linearSolve = null;
+    // Under a budget that is known before the proposal is solved, so a large pool solves both rules
+    // on another core meanwhile.
+    CompletableFuture<double[]> comparisons = null;
     if (objective instanceof Objective.Prices prices) {
       feasible = true;
       level = prices.waterLevel();
     } else {
       long budget = ((Objective.Budget) objective).bytes();
       feasible = budget >= minimumBudget;
-      comparisonTarget = feasible ? budget - overheadBytes : optimum.minimumTotal();
-      linearSolve = solve(linear, comparisonTarget, large);
+      double comparisonTarget = feasible ? budget - overheadBytes : optimum.minimumTotal();
+      comparisons = solveRules(linear, equal, comparisonTarget, large);
       level = feasible ? optimum.levelFor(budget - overheadBytes) : 0;
     }
     long[] heaps = new long[size];
@@ -125,13 +125,12 @@ public final class Allocator {
     }
     // Under prices the pool's size is what the prices chose.
     long budget = objective instanceof Objective.Budget fixed ? fixed.bytes() : used;
-    if (linearSolve == null) {
+    if (comparisons == null) {
       // Prices are always feasible: the pool's memory is what the proposal uses.
-      comparisonTarget = budget - overheadBytes;
-      linearSolve = solve(linear, comparisonTarget, false);
+      comparisons = solveRules(linear, equal, budget - overheadBytes, false);
     }
-    double equalLevel = equal.levelFor(comparisonTarget);
-    double linearLevel = linearSolve.join();
+    double linearLevel = comparisons.join()[0];
+    double equalLevel = comparisons.join()[1];
 
     WorkloadPlan[] plans = new WorkloadPlan[size];
     forEachWorkload(
@@ -181,12 +180,17 @@ public final class Allocator {
         new GcForecast(currentTotal, proposedTotal, linearTotal, equalTotal));
   }
 
-  /** {@code rule}'s level for {@code heapTarget}: off-thread for a large pool, else at once. */
-  private static CompletableFuture<Double> solve(
-      WaterFilling rule, double heapTarget, boolean large) {
+  /**
+   * The linear rule's and the equal split's levels for {@code heapTarget}: one after the other on
+   * another core for a large pool, else at once.
+   */
+  private static CompletableFuture<double[]> solveRules(
+      WaterFilling linear, WaterFilling equal, double heapTarget, boolean large) {
+    Supplier<double[]> both =
+        () -> new double[] {linear.levelFor(heapTarget), equal.levelFor(heapTarget)};
     return large
-        ? CompletableFuture.supplyAsync(() -> rule.levelFor(heapTarget))
-        : CompletableFuture.completedFuture(rule.levelFor(heapTarget));
+        ? CompletableFuture.supplyAsync(both)
+        : CompletableFuture.completedFuture(both.get());
   }
 
   /** Waits for the name check, rethrowing its refusal as it would have been thrown inline. */
