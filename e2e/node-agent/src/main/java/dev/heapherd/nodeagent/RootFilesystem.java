@@ -22,12 +22,15 @@ final class RootFilesystem {
    * The character devices (name, major, minor) of the OCI runtime specification's default devices
    * that a JVM may open: null, zero, random and urandom (Linux devices.txt numbers).
    */
-  private static final List<String[]> DEVICES =
+  private static final List<Device> DEVICES =
       List.of(
-          new String[] {"null", "1", "3"},
-          new String[] {"zero", "1", "5"},
-          new String[] {"random", "1", "8"},
-          new String[] {"urandom", "1", "9"});
+          new Device("null", 1, 3),
+          new Device("zero", 1, 5),
+          new Device("random", 1, 8),
+          new Device("urandom", 1, 9));
+
+  /** A character device node: its name under /dev and its numbers. */
+  private record Device(String name, int major, int minor) {}
 
   /** Marks a root folder that was copied completely. */
   private static final String READY_MARKER = ".node-agent-ready";
@@ -50,16 +53,16 @@ final class RootFilesystem {
       for (String dir : List.of("proc", "dev", "etc", "tmp")) {
         Files.createDirectories(rootfs.resolve(dir));
       }
-      for (String[] device : DEVICES) {
+      for (Device device : DEVICES) {
         Processes.run(
             List.of(
                 "mknod",
                 "-m",
                 "666",
-                rootfs.resolve("dev").resolve(device[0]).toString(),
+                rootfs.resolve("dev").resolve(device.name()).toString(),
                 "c",
-                device[1],
-                device[2]),
+                Integer.toString(device.major()),
+                Integer.toString(device.minor())),
             HELPER_TIMEOUT);
       }
       Files.writeString(
