@@ -24,9 +24,6 @@ final class ImageTable {
   /** Read size when hashing a jar; any size works, 64 KiB keeps the number of reads small. */
   private static final int READ_BYTES = 64 * 1024;
 
-  /** The user ID of root, which alone may change a process's root folder and user. */
-  private static final int ROOT_UID = 0;
-
   private final Map<ImageMapping, String> imageIds;
   private final Map<ImageMapping, ImageArchive.Unpacked> unpacked;
 
@@ -66,9 +63,10 @@ final class ImageTable {
     return Optional.ofNullable(unpacked.get(mapping));
   }
 
+  /** Only root may change a process's root folder and user. */
   private static void requireRoot(ImageMapping mapping) throws IOException {
     Object uid = Files.getAttribute(Path.of("/proc/self"), "unix:uid");
-    if (!Integer.valueOf(ROOT_UID).equals(uid)) {
+    if (!(uid instanceof Integer id) || id != ContainerLaunch.ROOT) {
       throw new IllegalArgumentException(
           "image tarball "
               + mapping.file()
