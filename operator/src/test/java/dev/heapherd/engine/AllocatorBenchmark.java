@@ -52,13 +52,7 @@ public class AllocatorBenchmark {
       long heap = live + random.nextLong(16, 4096) * MIB;
       long nonHeap = random.nextLong(64, 512) * MIB;
       int replicas = random.nextInt(1, 10);
-      HeapRules rules =
-          new HeapRules(
-              random.nextLong(64, 512) * MIB,
-              random.nextLong(9000, 20000) * MIB,
-              random.nextInt(10, 50) / 100.0,
-              random.nextInt(20, 100) / 100.0,
-              64 * MIB);
+      HeapRules rules = Pools.randomRules(random);
       pool.add(
           new Workload(
               "w" + i,

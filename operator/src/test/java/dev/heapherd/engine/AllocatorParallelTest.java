@@ -68,13 +68,7 @@ class AllocatorParallelTest {
               generational ? random.nextDouble(1e5, 1e8) : 0,
               generations,
               GcConstantEstimator.CURRENT_HEADROOM);
-      HeapRules rules =
-          new HeapRules(
-              random.nextLong(64, 512) * MIB,
-              random.nextLong(9000, 20000) * MIB,
-              random.nextInt(10, 50) / 100.0,
-              random.nextInt(20, 100) / 100.0,
-              64 * MIB);
+      HeapRules rules = Pools.randomRules(random);
       pool.add(
           new Workload(
               "w" + i,

@@ -4,6 +4,7 @@ import static dev.heapherd.engine.Units.MIB;
 
 import java.util.List;
 import java.util.OptionalDouble;
+import java.util.SplittableRandom;
 import java.util.stream.IntStream;
 import net.jqwik.api.Arbitraries;
 import net.jqwik.api.Arbitrary;
@@ -11,6 +12,16 @@ import net.jqwik.api.Combinators;
 
 /** Random pools for property tests, and the weighted objective the allocator minimises. */
 final class Pools {
+
+  /** Random floors, ceilings, headroom and step rules, as the large-pool benchmark draws them. */
+  static HeapRules randomRules(SplittableRandom random) {
+    return new HeapRules(
+        random.nextLong(64, 512) * MIB,
+        random.nextLong(9000, 20000) * MIB,
+        random.nextInt(10, 50) / 100.0,
+        random.nextInt(20, 100) / 100.0,
+        64 * MIB);
+  }
 
   private Pools() {}
 
