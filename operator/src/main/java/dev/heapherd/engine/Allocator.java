@@ -36,18 +36,15 @@ public final class Allocator {
     if (workloads.isEmpty()) {
       throw new IllegalArgumentException("a pool needs at least one workload");
     }
-    boolean large = workloads.size() >= PARALLEL_MIN_WORKLOADS;
+    if (workloads.size() < PARALLEL_MIN_WORKLOADS) {
+      requireUniqueNames(workloads);
+      return planUniquelyNamed(workloads, objective, false);
+    }
     // The name check changes no figure, so a large pool runs it beside the arithmetic; a duplicate
     // still fails the call before any plan is returned, as it would checked first.
-    CompletableFuture<Void> names =
-        large
-            ? CompletableFuture.runAsync(() -> requireUniqueNames(workloads))
-            : CompletableFuture.completedFuture(null);
-    if (!large) {
-      requireUniqueNames(workloads);
-    }
+    CompletableFuture<Void> names = CompletableFuture.runAsync(() -> requireUniqueNames(workloads));
     try {
-      return planUniquelyNamed(workloads, objective, large);
+      return planUniquelyNamed(workloads, objective, true);
     } finally {
       awaitNameCheck(names);
     }
@@ -129,8 +126,9 @@ public final class Allocator {
       // Prices are always feasible: the pool's memory is what the proposal uses.
       comparisons = solveRules(linear, equal, budget - overheadBytes, false);
     }
-    double linearLevel = comparisons.join()[0];
-    double equalLevel = comparisons.join()[1];
+    double[] levels = comparisons.join();
+    double linearLevel = levels[0];
+    double equalLevel = levels[1];
 
     WorkloadPlan[] plans = new WorkloadPlan[size];
     forEachWorkload(

@@ -3,15 +3,13 @@ package dev.heapherd.nodeagent;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import com.fasterxml.jackson.databind.node.MissingNode;
+import java.io.ByteArrayInputStream;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
-import java.security.MessageDigest;
-import java.security.NoSuchAlgorithmException;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.Comparator;
-import java.util.HexFormat;
 import java.util.Iterator;
 import java.util.List;
 import java.util.Optional;
@@ -66,22 +64,31 @@ final class ImageArchive {
       JsonNode entry = manifest.get(0);
       String configName = text(field(entry, "Config"), archive, "the manifest's Config");
       byte[] configBytes = Files.readAllBytes(inside(staging, configName, archive));
-      String digest = sha256(configBytes);
+      String digest = ImageTable.sha256Hex(new ByteArrayInputStream(configBytes));
       Path imageDir = imagesDir.resolve(digest);
-      Path rootfs = imageDir.resolve("rootfs");
-      Config config = config(JSON.readTree(configBytes), archive);
+      Unpacked image =
+          new Unpacked(
+              "sha256:" + digest,
+              imageDir.resolve("rootfs"),
+              config(JSON.readTree(configBytes), archive));
       if (Files.exists(imageDir.resolve(COMPLETE_MARKER))) {
-        return new Unpacked("sha256:" + digest, rootfs, config);
+        return image;
       }
       deleteTree(imageDir);
-      Files.createDirectories(rootfs);
+      Files.createDirectories(image.rootfs());
       for (JsonNode layer : field(entry, "Layers")) {
         Path layerFile = inside(staging, text(layer, archive, "a layer name"), archive);
         checkEntries(layerFile, archive);
-        tar(archive, "--numeric-owner", "-xf", layerFile.toString(), "-C", rootfs.toString());
+        tar(
+            archive,
+            "--numeric-owner",
+            "-xf",
+            layerFile.toString(),
+            "-C",
+            image.rootfs().toString());
       }
       Files.writeString(imageDir.resolve(COMPLETE_MARKER), digest + "\n");
-      return new Unpacked("sha256:" + digest, rootfs, config);
+      return image;
     } finally {
       deleteTree(staging);
     }
@@ -180,15 +187,6 @@ final class ImageArchive {
       return Processes.run(command, TAR_TIMEOUT);
     } catch (IOException e) {
       throw new IllegalArgumentException(archive + ": " + e.getMessage());
-    }
-  }
-
-  private static String sha256(byte[] bytes) {
-    try {
-      return HexFormat.of().formatHex(MessageDigest.getInstance("SHA-256").digest(bytes));
-    } catch (NoSuchAlgorithmException e) {
-      // Every Java platform must provide SHA-256 (MessageDigest's documentation).
-      throw new IllegalStateException(e);
     }
   }
 

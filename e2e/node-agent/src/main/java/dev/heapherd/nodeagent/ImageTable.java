@@ -102,18 +102,26 @@ final class ImageTable {
           "jar for image '" + mapping.suffix() + "' not found: " + mapping.file());
     }
     try (InputStream in = Files.newInputStream(mapping.file())) {
-      MessageDigest digest = MessageDigest.getInstance("SHA-256");
-      byte[] buffer = new byte[READ_BYTES];
-      for (int n = in.read(buffer); n >= 0; n = in.read(buffer)) {
-        digest.update(buffer, 0, n);
-      }
-      return HexFormat.of().formatHex(digest.digest());
+      return sha256Hex(in);
     } catch (IOException e) {
       throw new IllegalArgumentException(
           "cannot read jar for image '" + mapping.suffix() + "': " + e.getMessage());
+    }
+  }
+
+  /** The SHA-256 of everything {@code in} holds, in lower-case hex. */
+  static String sha256Hex(InputStream in) throws IOException {
+    MessageDigest digest;
+    try {
+      digest = MessageDigest.getInstance("SHA-256");
     } catch (NoSuchAlgorithmException e) {
       // Every Java platform must provide SHA-256 (MessageDigest's documentation).
       throw new IllegalStateException(e);
     }
+    byte[] buffer = new byte[READ_BYTES];
+    for (int n = in.read(buffer); n >= 0; n = in.read(buffer)) {
+      digest.update(buffer, 0, n);
+    }
+    return HexFormat.of().formatHex(digest.digest());
   }
 }

@@ -198,11 +198,15 @@ public final class Main implements Callable<Integer> {
       mappings.add(ImageMapping.operator(operatorJar));
     }
     if (operatorImage != null) {
-      if (!operatorImage.getFileName().toString().endsWith(ImageMapping.ARCHIVE_EXTENSION)) {
+      ImageMapping image = ImageMapping.operator(operatorImage);
+      if (!image.archive()) {
         throw new IllegalArgumentException(
-            "--operator-image must name an image tarball ending in .tar, got " + operatorImage);
+            "--operator-image must name an image tarball ending in "
+                + ImageMapping.ARCHIVE_EXTENSION
+                + ", got "
+                + operatorImage);
       }
-      mappings.add(ImageMapping.operator(operatorImage));
+      mappings.add(image);
     }
     for (String image : images) {
       mappings.add(ImageMapping.parse(image));
