@@ -12,6 +12,7 @@ import io.javaoperatorsdk.operator.api.reconciler.Context;
 import io.javaoperatorsdk.operator.api.reconciler.ControllerConfiguration;
 import io.javaoperatorsdk.operator.api.reconciler.EventSourceContext;
 import io.javaoperatorsdk.operator.api.reconciler.MaxReconciliationInterval;
+import io.javaoperatorsdk.operator.api.reconciler.PrimaryUpdateAndCacheUtils;
 import io.javaoperatorsdk.operator.api.reconciler.Reconciler;
 import io.javaoperatorsdk.operator.api.reconciler.UpdateControl;
 import io.javaoperatorsdk.operator.processing.event.source.EventSource;
@@ -105,14 +106,30 @@ public class HeapPoolReconciler implements Reconciler<HeapPool> {
             .list()
             .map(p -> ReviewPages.path(p.getMetadata().getNamespace(), p.getMetadata().getName()))
             .collect(java.util.stream.Collectors.toSet()));
-    UpdateControl<HeapPool> control;
-    if (JSON.asJson(status).equals(before == null ? "" : JSON.asJson(before))) {
-      control = UpdateControl.noUpdate();
-    } else {
-      pool.setStatus(status);
-      control = UpdateControl.patchStatus(pool);
+    if (!JSON.asJson(status).equals(before == null ? "" : JSON.asJson(before))) {
+      writeStatus(pool, status, context);
     }
+    UpdateControl<HeapPool> control = UpdateControl.noUpdate();
     return rolling ? control.rescheduleAfter(ROLLING_RECHECK) : control;
+  }
+
+  /**
+   * Writes {@code status} and keeps the written pool for the next visit. The status carries state
+   * across visits (history, curve points, the published proposal), and the SDK does not cache a
+   * status returned in an UpdateControl: a visit started by the rollout's own Deployment write
+   * could read the pool from before this write and patch it back, losing the history line of a step
+   * already taken. The write is a JSON Patch of the status with optimistic locking; on a conflict
+   * (an admin edited the spec) the status goes onto the newer pool, as the operator is the status's
+   * only writer.
+   */
+  private static void writeStatus(HeapPool pool, HeapPoolStatus status, Context<HeapPool> context) {
+    PrimaryUpdateAndCacheUtils.patchStatusAndCacheResource(
+        pool,
+        context,
+        current -> {
+          current.setStatus(status);
+          return current;
+        });
   }
 
   /** One visit: returns whether a rollout is running, so the pool is looked at again soon. */
