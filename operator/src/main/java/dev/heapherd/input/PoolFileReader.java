@@ -98,33 +98,6 @@ public final class PoolFileReader {
   /** Upper bound on percent settings: a heap ten times its live set is headroom enough. */
   public static final long MAX_PERCENT = 1000;
 
-  /** Metadata a pool file may carry, including what `kubectl get -o yaml` adds. */
-  private static final Set<String> METADATA =
-      Set.of(
-          "name",
-          "namespace",
-          "labels",
-          "annotations",
-          "uid",
-          "resourceVersion",
-          "generation",
-          "creationTimestamp",
-          "managedFields",
-          "finalizers",
-          "ownerReferences",
-          "generateName",
-          "deletionTimestamp",
-          "deletionGracePeriodSeconds");
-
-  private static final Set<String> SETTINGS =
-      Set.of(
-          "weight",
-          "heapFloor",
-          "heapCeiling",
-          "minHeadroomPercent",
-          "maxStepPercent",
-          "limitMargin");
-
   private PoolFileReader() {}
 
   /** Reads {@code file}; every problem is reported as an {@link InputException}. */
@@ -142,48 +115,40 @@ public final class PoolFileReader {
   }
 
   /**
-   * The reader's checks, which name the usual mistakes in their own words, then the generated CRD's
-   * schema, so that a file is refused for whatever the API server would refuse in a resource.
+   * The {@code api} types bind the document (which fields exist), the reader's checks read every
+   * value and name the usual mistakes in their own words, then the generated CRD's schema refuses
+   * whatever the API server would refuse in a resource.
    */
   private static PoolFile read(Field document) throws InputException {
+    var unbound = PoolBinding.check(document);
     PoolFile pool = readFields(document);
+    if (unbound.isPresent()) {
+      throw unbound.get();
+    }
     PoolSchema.check(document.file(), document.node());
     return pool;
   }
 
-  private static PoolFile readFields(Field document) throws InputException {
-    Field root = document.allowOnly(Set.of("apiVersion", "kind", "metadata", "spec", "status"));
+  private static PoolFile readFields(Field root) throws InputException {
     String apiVersion = root.required("apiVersion").text();
     if (!API_VERSION.equals(apiVersion)) {
       throw root.required("apiVersion").error("must be " + API_VERSION + ", got " + apiVersion);
     }
     root.required("kind").oneOf(Set.of(KIND));
-    Field metadata = root.required("metadata").allowOnly(METADATA);
+    Field metadata = root.required("metadata");
     String name = metadata.required("name").objectName();
     String namespace =
         metadata.optional("namespace").isPresent()
             ? metadata.required("namespace").objectName()
             : "";
 
-    Field spec =
-        root.required("spec")
-            .allowOnly(
-                Set.of(
-                    "mode",
-                    "memoryBudget",
-                    "prices",
-                    "selector",
-                    "defaults",
-                    "overrides",
-                    "metrics",
-                    "rollout",
-                    "approvedProposal"));
+    Field spec = root.required("spec");
     PoolFile.Mode mode =
         PoolFile.Mode.valueOf(
             spec.oneOfOrDefault(
                 "mode", PoolFile.names(PoolFile.Mode.class), PoolFile.Mode.DryRun.name()));
     Objective objective = objective(spec);
-    Field selector = spec.required("selector").allowOnly(Set.of("matchLabels"));
+    Field selector = spec.required("selector");
     var matchLabels = selector.required("matchLabels").stringMap();
     if (matchLabels.isEmpty()) {
       throw selector.required("matchLabels").error("must name at least one label");
@@ -191,7 +156,7 @@ public final class PoolFileReader {
     Optional<Field> defaultsField = spec.optional("defaults");
     WorkloadSettings defaults =
         defaultsField.isPresent()
-            ? settings(defaultsField.get().allowOnly(SETTINGS))
+            ? settings(defaultsField.get())
             : new WorkloadSettings(null, null, null, null, null, null);
     checkFloorBelowCeiling(
         defaultsField.orElse(spec),
@@ -202,10 +167,7 @@ public final class PoolFileReader {
     Optional<Field> overridesField = spec.optional("overrides");
     if (overridesField.isPresent()) {
       Set<String> seen = new HashSet<>();
-      Set<String> allowed = new HashSet<>(SETTINGS);
-      allowed.add("name");
       for (Field item : overridesField.get().list()) {
-        item.allowOnly(allowed);
         String workload = item.required("name").objectName();
         if (!seen.add(workload)) {
           throw item.required("name").error("duplicate workload name \"" + workload + "\"");
@@ -242,18 +204,6 @@ public final class PoolFileReader {
   }
 
   private static PoolFile.Rollout rollout(Field f) throws InputException {
-    f.allowOnly(
-        Set.of(
-            "containerName",
-            "jvmOptionsVariable",
-            "setMemoryRequest",
-            "setInitialHeap",
-            "approval",
-            "maxRollingWorkloads",
-            "cooldownSeconds",
-            "changeThresholdPercent",
-            "metricsMaxAgeSeconds",
-            "freezeWindows"));
     PoolFile.Rollout d = DEFAULT_ROLLOUT;
     String container = d.containerName();
     if (f.optional("containerName").isPresent()) {
@@ -271,7 +221,6 @@ public final class PoolFileReader {
     List<PoolFile.FreezeWindow> windows = new ArrayList<>();
     if (f.optional("freezeWindows").isPresent()) {
       for (Field w : f.required("freezeWindows").list()) {
-        w.allowOnly(Set.of("start", "end"));
         var start = w.required("start").instant();
         var end = w.required("end").instant();
         if (!end.isAfter(start)) {
@@ -299,14 +248,12 @@ public final class PoolFileReader {
   }
 
   private static PoolFile.Metrics metrics(Field f) throws InputException {
-    f.allowOnly(Set.of("profile", "windowSeconds", "queries", "workloadLabel"));
     String profile = f.oneOfOrDefault("profile", PROFILES, DEFAULT_METRICS.profile());
     Long window = f.integerOrNull("windowSeconds", MIN_WINDOW_SECONDS, MAX_WINDOW_SECONDS);
     List<PoolFile.Query> queries = new ArrayList<>();
     if (f.optional("queries").isPresent()) {
       Set<String> seen = new HashSet<>();
       for (Field q : f.required("queries").list()) {
-        q.allowOnly(Set.of("signal", "promql"));
         String signal = q.required("signal").oneOf(SIGNALS);
         if (!seen.add(signal)) {
           throw q.required("signal").error("duplicate query for " + signal);
@@ -345,7 +292,7 @@ public final class PoolFileReader {
     if (budget.isPresent()) {
       return new Objective.Budget(budget.get().positiveBytes());
     }
-    Field p = prices.get().allowOnly(Set.of("memoryPerGiBHour", "cpuPerCoreHour"));
+    Field p = prices.get();
     return new Objective.Prices(
         p.required("memoryPerGiBHour").positiveNumber(),
         p.required("cpuPerCoreHour").positiveNumber());
