@@ -13,6 +13,10 @@ import java.util.stream.IntStream;
  * per byte: with only the old part this is the square-root heap limit rule, {@code E_i = E0_i + c *
  * sqrt(w_i * k_i)} of headroom over live, clamped to its bounds, with one level {@code c} for the
  * pool; with a young part too the heap solves {@link MarginalFilling}'s equation. Pure: no I/O.
+ *
+ * <p>Over 250 lines: the sequential path and the parallel path for large pools sit side by side, so
+ * that one can check they take the same steps and sum in the same order (the plans are
+ * bit-identical, AllocatorParallelTest).
  */
 public final class Allocator {
 

@@ -15,6 +15,10 @@ import java.util.function.ToDoubleFunction;
 /**
  * Turns the pods of one workload into the snapshot's per-pod numbers, or holds the workload with a
  * reason when the data cannot be trusted. It never guesses.
+ *
+ * <p>Over 250 lines: every reason a workload is held (no scrape, a restart, a missing signal, an
+ * unknown collector, pods on different heaps, live bytes at the limit) is checked here, one after
+ * the other, as docs/metrics.md ("When a workload is held") lists them.
  */
 public final class WorkloadEstimator {
 
