@@ -13,9 +13,21 @@ import java.util.TreeMap;
 
 /**
  * Fetches every signal of a profile for all pods matching a selector: a handful of queries per pool
- * (a few per signal), never one per pod.
+ * whatever the number of pods and signals. The signals' first templates go out as one query, their
+ * fallbacks as another, each series tagged with its signal, plus one range query for live growth.
  */
 public final class FleetReader {
+
+  /** The label a joined query tags each series with: the key of the signal it answers. */
+  static final String SIGNAL_LABEL = "heapherd_signal";
+
+  private static final Map<String, Signal> BY_KEY = new HashMap<>();
+
+  static {
+    for (Signal s : Signal.values()) {
+      BY_KEY.put(s.key(), s);
+    }
+  }
 
   private final PrometheusClient client;
   private final QueryProfile profile;
@@ -29,6 +41,58 @@ public final class FleetReader {
   /** The profile in use. */
   public QueryProfile profile() {
     return profile;
+  }
+
+  /**
+   * The samples of every query in {@code level}, by signal: one query joining them all, each series
+   * tagged with its signal's key. Should Prometheus refuse the joined query (a pool's own template
+   * that does not parse, say), each is sent alone, so the error names the template at fault.
+   */
+  private Map<Signal, List<Sample>> fetch(Map<Signal, String> level, Instant at)
+      throws MetricsException {
+    Map<Signal, List<Sample>> out = new EnumMap<>(Signal.class);
+    if (level.size() > 1) {
+      String joined =
+          level.entrySet().stream()
+              .map(
+                  e ->
+                      "label_replace("
+                          + e.getValue()
+                          + ", \""
+                          + SIGNAL_LABEL
+                          + "\", \""
+                          + e.getKey().key()
+                          + "\", \"\", \"\")")
+              .collect(java.util.stream.Collectors.joining(" or "));
+      try {
+        for (Sample sample : checked(client.query(joined, at))) {
+          Signal signal = BY_KEY.get(sample.label(SIGNAL_LABEL));
+          if (signal != null) {
+            out.computeIfAbsent(signal, k -> new ArrayList<>()).add(sample);
+          }
+        }
+        return out;
+      } catch (MetricsException e) {
+        if (e.kind() != MetricsException.Kind.REJECTED) {
+          throw e;
+        }
+      }
+    }
+    for (var query : level.entrySet()) {
+      out.put(query.getKey(), checked(client.query(query.getValue(), at)));
+    }
+    return out;
+  }
+
+  /** The samples of {@code result}; warnings refuse it. */
+  private static List<Sample> checked(QueryResult result) throws MetricsException {
+    if (!result.warnings().isEmpty()) {
+      // Estimates from part of the fleet's data would look sound and be wrong: refuse them.
+      throw new MetricsException(
+          MetricsException.Kind.PARTIAL_DATA,
+          "Prometheus returned partial data: " + String.join("; ", result.warnings()));
+    }
+    return result.samples();
   }
 
   /**
@@ -92,17 +156,20 @@ public final class FleetReader {
     Map<String, String> namespaces = new HashMap<>();
     Set<String> liveFallback = new HashSet<>();
     Map<String, Set<String>> collectors = new HashMap<>();
-    for (Signal signal : Signal.values()) {
-      List<String> queries = profile.queries(signal, selector, windowSeconds);
-      for (int i = 0; i < queries.size(); i++) {
-        QueryResult result = client.query(queries.get(i), at);
-        if (!result.warnings().isEmpty()) {
-          // Estimates from part of the fleet's data would look sound and be wrong: refuse them.
-          throw new MetricsException(
-              MetricsException.Kind.PARTIAL_DATA,
-              "Prometheus returned partial data: " + String.join("; ", result.warnings()));
+    for (int i = 0; ; i++) {
+      Map<Signal, String> level = new EnumMap<>(Signal.class);
+      for (Signal signal : Signal.values()) {
+        List<String> queries = profile.queries(signal, selector, windowSeconds);
+        if (i < queries.size()) {
+          level.put(signal, queries.get(i));
         }
-        for (Sample sample : result.samples()) {
+      }
+      if (level.isEmpty()) {
+        break;
+      }
+      for (var answer : fetch(level, at).entrySet()) {
+        Signal signal = answer.getKey();
+        for (Sample sample : answer.getValue()) {
           String key = sample.label("namespace") + "/" + sample.label("pod");
           namespaces.put(key, sample.label("namespace"));
           Map<Signal, Double> pod = values.computeIfAbsent(key, k -> new EnumMap<>(Signal.class));

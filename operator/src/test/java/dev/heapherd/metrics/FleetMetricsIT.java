@@ -38,6 +38,9 @@ class FleetMetricsIT {
   /** Thirty one-second scrapes: a test-sized window (production windows are an hour). */
   private static final long WINDOW_SECONDS = 30;
 
+  /** Our target for one pool's measurement: a few queries at any pool size (docs/metrics.md). */
+  private static final long MAX_QUERIES_PER_POOL = 10;
+
   /** Scrapes before the window, so promotion has reached its steady rate. */
   private static final long WARM_UP_SECONDS = 15;
 
@@ -125,9 +128,14 @@ class FleetMetricsIT {
         awaitScrapes(client, WARM_UP_SECONDS + WINDOW_SECONDS);
         end = Instant.now();
         QueryProfile profile = QueryProfiles.named(instrumentation).orElseThrow();
+        long queriesBefore = queriesServed(prometheus);
         snapshot =
             new SnapshotBuilder(new FleetReader(client, profile))
                 .build(NAMESPACE, WINDOW_SECONDS, end, List.of());
+        // Counted by Prometheus itself: a pool is measured in a few queries, whatever its size.
+        assertThat(queriesServed(prometheus) - queriesBefore)
+            .as("queries Prometheus served for one pool")
+            .isBetween(1L, MAX_QUERIES_PER_POOL);
       } finally {
         sampler.shutdownNow();
       }
@@ -212,6 +220,27 @@ class FleetMetricsIT {
           .min(Comparator.comparing(r -> Duration.between(r.at(), at).abs()))
           .orElseThrow();
     }
+  }
+
+  /**
+   * Instant and range queries Prometheus has answered, from its own request counter
+   * (prometheus_http_requests_total, documented in Prometheus' HTTP API instrumentation).
+   */
+  private static long queriesServed(PrometheusServer prometheus) throws Exception {
+    String text =
+        java.net.http.HttpClient.newHttpClient()
+            .send(
+                java.net.http.HttpRequest.newBuilder(prometheus.uri().resolve("/metrics")).build(),
+                java.net.http.HttpResponse.BodyHandlers.ofString())
+            .body();
+    return text.lines()
+        .filter(l -> l.startsWith("prometheus_http_requests_total{"))
+        .filter(
+            l ->
+                l.contains("handler=\"/api/v1/query\"")
+                    || l.contains("handler=\"/api/v1/query_range\""))
+        .mapToLong(l -> (long) Double.parseDouble(l.substring(l.lastIndexOf(' ') + 1)))
+        .sum();
   }
 
   private static void awaitScrapes(PrometheusClient client, long count) {
