@@ -27,6 +27,7 @@ class LayeringTest {
   /** The operator's entry points, the only reconcile types the command line may start. */
   private static final Set<String> RECONCILE_ENTRY_POINTS =
       Set.of(
+          "dev.heapherd.reconcile.ApiRequestCounter",
           "dev.heapherd.reconcile.OperatorRuntime",
           "dev.heapherd.reconcile.PrometheusMetricsSource");
 

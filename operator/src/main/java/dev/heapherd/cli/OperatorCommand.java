@@ -4,6 +4,7 @@ import dev.heapherd.input.ErrorText;
 import dev.heapherd.input.InputException;
 import dev.heapherd.metrics.MetricsException;
 import dev.heapherd.metrics.PrometheusClient;
+import dev.heapherd.reconcile.ApiRequestCounter;
 import dev.heapherd.reconcile.OperatorRuntime;
 import dev.heapherd.reconcile.PrometheusMetricsSource;
 import io.fabric8.kubernetes.client.KubernetesClient;
@@ -80,7 +81,13 @@ final class OperatorCommand implements Callable<Integer> {
     PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
     new JvmMemoryMetrics().bindTo(registry);
     new JvmGcMetrics().bindTo(registry);
-    KubernetesClient client = new KubernetesClientBuilder().build();
+    KubernetesClient client =
+        new KubernetesClientBuilder()
+            .withHttpClientBuilderConsumer(
+                b ->
+                    b.addOrReplaceInterceptor(
+                        ApiRequestCounter.NAME, new ApiRequestCounter(registry)))
+            .build();
     OperatorRuntime runtime;
     try {
       runtime =

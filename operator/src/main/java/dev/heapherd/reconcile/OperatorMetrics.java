@@ -120,11 +120,32 @@ public final class OperatorMetrics implements MeterBinder {
         .increment();
   }
 
+  /**
+   * Histogram buckets of the reconcile time, so that quantiles over pools can be computed in PromQL
+   * (histogram_quantile): from a cached visit (milliseconds) to one waiting on a slow Prometheus
+   * (the query timeout is 30 s). Twelve per pool keeps the series few; our choice.
+   */
+  private static final Duration[] RECONCILE_BUCKETS = {
+    Duration.ofMillis(5),
+    Duration.ofMillis(10),
+    Duration.ofMillis(25),
+    Duration.ofMillis(50),
+    Duration.ofMillis(100),
+    Duration.ofMillis(250),
+    Duration.ofMillis(500),
+    Duration.ofSeconds(1),
+    Duration.ofMillis(2500),
+    Duration.ofSeconds(5),
+    Duration.ofSeconds(10),
+    Duration.ofSeconds(30)
+  };
+
   /** How long one reconcile of a pool took. */
   void reconciled(String namespace, String pool, Duration took) {
     Timer.builder(PREFIX + "reconcile.duration")
         .description("Time to reconcile one pool")
         .tags(NAMESPACE, namespace, POOL, pool)
+        .serviceLevelObjectives(RECONCILE_BUCKETS)
         .register(registry())
         .record(took);
   }

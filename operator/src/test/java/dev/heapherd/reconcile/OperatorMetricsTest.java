@@ -109,6 +109,13 @@ class OperatorMetricsTest {
     served.step("larkspur", "orders", "started");
     served.railTripped("larkspur", "orders", "Budget");
     served.reconciled("larkspur", "orders", Duration.ofMillis(40));
+    io.fabric8.kubernetes.client.http.HttpClient.Builder http =
+        new io.fabric8.kubernetes.client.jdkhttp.JdkHttpClientFactory().newBuilder();
+    new ApiRequestCounter(prometheus)
+        .before(
+            null,
+            http.build().newHttpRequestBuilder().uri("https://127.0.0.1:6443/api/v1/pods").build(),
+            null);
     String scrape = prometheus.scrape();
 
     String guide =
