@@ -3,7 +3,8 @@
 # test (what CI runs), `./dev.sh bench` prints the engine's benchmark figures, `./dev.sh crds`
 # copies the CRD the build generated from the Java types into crds/, `./dev.sh image` builds the
 # operator's image as a tarball (no Docker engine needed), `./dev.sh lab` runs the benchmark lab of
-# real applications (about an hour and a quarter) and writes docs/benchmarks.md's lab section.
+# real applications (about an hour and a quarter) and writes docs/benchmarks.md's lab section,
+# `./dev.sh scale` runs the operator at cluster scale (about 15 min).
 set -euo pipefail
 cd "$(dirname "$0")"
 
@@ -78,11 +79,23 @@ case "${1:-}" in
     mvn_batch -q -DskipTests -Dspotless.check.skip=true -Dimage.skip=true package
     "$(plot_venv)/bin/python" docs/figures/model.py
     ;;
+  scale)
+    # The operator at 2,000 workloads and 10,000 pods, and at a tenth of that, on the real control
+    # plane and Prometheus (about 15 min). The controller-manager leaves Deployments and
+    # StatefulSets alone: the bench creates their Pod objects itself.
+    need_packages
+    HEAPHERD_CONTROL_PLANE_BIN="$(e2e/control-plane/build.sh)"
+    export HEAPHERD_CONTROL_PLANE_BIN
+    export HEAPHERD_CONTROLLERS='*,-deployment-controller,-statefulset-controller,-replicaset-controller'
+    mvn_batch -q -pl e2e/scale -am -DskipTests -Dspotless.check.skip=true -Dimage.skip=true package
+    java -Dheapherd.control-plane.dir=e2e/control-plane -jar e2e/scale/target/scale-bench.jar \
+      docs/bench/scale.json operator/target/heapherd.jar crds/heappools.heapherd.dev-v1.yml
+    ;;
   bench)
     mvn_batch -q -Pbench -pl operator -am -DskipTests -Dspotless.check.skip=true -Dimage.skip=true verify
     ;;
   *)
-    echo "usage: ./dev.sh demo|test|bench|crds|image|lab|plots" >&2
+    echo "usage: ./dev.sh demo|test|bench|scale|crds|image|lab|plots" >&2
     exit 2
     ;;
 esac

@@ -4,6 +4,8 @@
 # kubeconfig path as the last stdout line. stop.sh STATE_DIR ends it.
 #
 # The binaries come from build.sh, or from HEAPHERD_CONTROL_PLANE_BIN when set.
+# HEAPHERD_CONTROLLERS replaces the controller-manager's --controllers list (default "*"), e.g. to
+# leave Deployments and StatefulSets to a test that creates their pods itself.
 set -euo pipefail
 
 die() { echo "start.sh: $*" >&2; exit 1; }
@@ -180,7 +182,7 @@ launch kube-controller-manager \
   --service-account-private-key-file "$pki/service-account.key" \
   --root-ca-file "$pki/ca.crt" \
   --cluster-signing-cert-file "$pki/ca.crt" --cluster-signing-key-file "$pki/ca.key" \
-  --controllers '*'
+  --controllers "${HEAPHERD_CONTROLLERS:-*}"
 # Its serving certificate is self-signed in memory; /healthz needs no client identity.
 await kube-controller-manager "https://127.0.0.1:$kcm_port/healthz" --insecure
 # Pods are rejected until their namespace's "default" service account exists, so wait for the
