@@ -90,6 +90,7 @@ case "${1:-}" in
     mvn_batch -q -pl e2e/scale -am -DskipTests -Dspotless.check.skip=true -Dimage.skip=true package
     java -Dheapherd.control-plane.dir=e2e/control-plane -jar e2e/scale/target/scale-bench.jar \
       docs/bench/scale.json operator/target/heapherd.jar crds/heappools.heapherd.dev-v1.yml
+    "$(plot_venv)/bin/python" docs/figures/scale.py
     ;;
   bench)
     mvn_batch -q -Pbench -pl operator -am -DskipTests -Dspotless.check.skip=true -Dimage.skip=true verify
